@@ -27,23 +27,32 @@ typedef struct ng_cloud {
 } ng_cloud;
 
 /* Reads a coordinate cloud from spec: a text file, a .npy file, or
- * "FILE.h5:/dataset" (also .hdf5). On success *out owns a new cloud (caller
- * frees with ng_cloud_free) and NG_OK is returned. On failure *out is NULL,
- * nothing is leaked, and err names the file and line and column (text), the
- * header field (.npy) or the dataset (HDF5): NG_ERR_INPUT for bad content,
- * NG_ERR_IO for an unreadable file, NG_ERR_NOMEM. */
+ * "FILE.h5:/dataset" (also .hdf5; a bare FILE.h5 is refused with a hint to
+ * append ":/dataset"). On success *out owns a new cloud (caller frees with
+ * ng_cloud_free) and NG_OK is returned. On failure *out is NULL, nothing is
+ * leaked, and err names the file and line and column (text, as
+ * "FILE:LINE:COLUMN: field F: 'abc' is not a number", all 1-based, COLUMN
+ * the byte where the token starts), the header field (.npy) or the dataset
+ * (HDF5); binary values are named by row and column counted from 0.
+ * Codes: NG_ERR_INPUT for bad content and for a file that cannot be opened
+ * (a mistyped name is bad usage, exit code 2), NG_ERR_IO for a read failure
+ * of an opened file, NG_ERR_NOMEM. Text is parsed with strtod in the C
+ * locale. */
 NG_API int ng_cloud_read(const char *spec, ng_cloud **out, ng_error *err);
 
 /* Reads a square distance matrix (text or .npy, or FILE.h5:/dataset) and
  * checks that it is symmetric (exactly), has a zero diagonal and no negative
- * entry; the cloud has dim = 0 and dist set. Errors as ng_cloud_read. */
+ * entry; the cloud has dim = 0, dist set and names NULL. The first offending
+ * entry in row-major order is named as [i][j] (points counted from 0), with
+ * FILE:LINE:COLUMN for text. Ownership and errors as ng_cloud_read. */
 NG_API int ng_cloud_read_distances(const char *spec, ng_cloud **out,
                                    ng_error *err);
 
 /* Removes coordinate column j from a coordinate cloud and returns its values
  * in *values (n doubles; caller frees with ng_cloud_values_free).
- * Fails with NG_ERR_USAGE when j ≥ dim or dim == 1 (no coordinate would be
- * left); the cloud is unchanged on failure. */
+ * names (when present) lose entry j too. Fails with NG_ERR_USAGE when the
+ * cloud is a distance matrix, j ≥ dim or dim == 1 (no coordinate would be
+ * left), NG_ERR_NOMEM; on failure *values is NULL and the cloud unchanged. */
 NG_API int ng_cloud_take_column(ng_cloud *cloud, size_t j, double **values,
                                 ng_error *err);
 

@@ -1,0 +1,16 @@
+/* commands.h — the subcommands of the nervegap command line. Each takes
+ * the whole argv (argv[1] is its name) and returns an exit code; errors are
+ * printed by the subcommand through cli_fail. */
+#ifndef NERVEGAP_CLI_COMMANDS_H
+#define NERVEGAP_CLI_COMMANDS_H
+
+#include "nervegap/common.h"
+
+int cmd_radii(int argc, char **argv);
+int cmd_values(int argc, char **argv);
+
+/* Prints "nervegap COMMAND: message" to stderr and returns the exit code of
+ * err (1 or 2). */
+int cli_fail(const char *command, const ng_error *err);
+
+#endif

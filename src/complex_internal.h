@@ -1,0 +1,45 @@
+/* complex_internal.h — the layout of ng_complex and the on-demand face and
+ * coface enumeration that the reduction uses (private).
+ *
+ * Invariants: vert[k] holds count[k] vertex lists of k + 1 increasing
+ * vertices, sorted by combinatorial index (colexicographic order); the
+ * k-simplices whose largest vertex is w occupy positions start[k][w] ..
+ * start[k][w+1] − 1; value[k][j * count[k] + pos] is the (monotone) value
+ * of that simplex in filtration j; the neighbour lists are sorted, without
+ * loops, and symmetric. count[k] < UINT32_MAX, so positions fit uint32_t.
+ */
+#ifndef NERVEGAP_COMPLEX_INTERNAL_H
+#define NERVEGAP_COMPLEX_INTERNAL_H
+
+#include "nervegap/complex.h"
+
+#include <stdint.h>
+
+#define NG_POS_NONE UINT32_MAX
+
+struct ng_complex {
+    size_t n;
+    int top_dim;
+    int n_filtrations;
+    double scale_limit;
+    size_t *offset; /* n + 1: neighbour list of i is nbr[offset[i] ..) */
+    ng_index *nbr;
+    size_t max_degree; /* longest neighbour list */
+    size_t count[NG_COMPLEX_MAX_DIM + 1];
+    ng_index *vert[NG_COMPLEX_MAX_DIM + 1];
+    size_t *start[NG_COMPLEX_MAX_DIM + 1];
+    double *value[NG_COMPLEX_MAX_DIM + 1];
+    size_t *within; /* n_filtrations × (top_dim + 1): value_j ≤ T counts */
+};
+
+/* Position of the k-simplex with increasing vertices v[0..k], or
+ * NG_POS_NONE. */
+uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
+
+/* Writes the positions of all (k+1)-cofacets of the k-simplex with
+ * increasing vertices v[0..k] (k < top_dim) into out, in increasing order
+ * of the added vertex, and returns their number (≤ c->max_degree). */
+size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
+                           uint32_t *restrict out);
+
+#endif
