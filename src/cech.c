@@ -39,9 +39,12 @@
  *    |y − x_j|² = Σ_b β_b d_bj² − Σ_{b<c} β_b β_c d_bc².
  *    Every kept candidate is a feasible point, so its t' ≥ t*; the optimum
  *    itself is a candidate (step 1). Hence cech = the least kept t'.
- *    No KKT sign test (μ ≥ 0, Σμ ≤ 1) is used: it would only skip the cheap
- *    feasibility test, and a wrongly rejected sign near 0 would lose the
- *    optimum, while the minimum over feasible candidates stays exact.
+ *    Only a loose sign test is used: roots with Σ|β| > BETA_MAX = 4 are
+ *    dropped (the optimum has β ≥ 0, Σ|β| = 1; far outside conv B the
+ *    distance identity cancels). A strict KKT test (β ≥ 0) would save
+ *    little, since the feasibility test is cheap next to the solve, and a
+ *    sign near 0 flipped by rounding would lose the optimum, whereas the
+ *    minimum over feasible candidates stays exact.
  * 4. Speed. rips(σ) = the largest singleton/pair value is a lower bound of
  *    cech; as soon as a kept candidate reaches it the search stops (most
  *    obtuse triangles stop after the pairs). Candidates not below the best
@@ -50,12 +53,17 @@
  *
  * Tolerances (all relative to the simplex's own scale, so coordinates from
  * 1e-8 to 1e8 behave alike):
+ *  - Precision: the Gram entries ½(d_0a² + d_0c² − d_ac²) and the
+ *    elimination cancel like 1/sin² of the flattest angle of B, so the
+ *    support systems are solved in long double (64-bit mantissa on x86-64;
+ *    where long double is double, flat supports lose accuracy as 1/sin²).
+ *    The candidate point is then tested in double.
  *  - Flatness: B is skipped when a Cholesky pivot of G falls below
- *    FLAT_TOL·G_aa, i.e. when x_ba lies within sqrt(FLAT_TOL) ≈ 1e-6 of its
- *    own distance from x_b0 of the affine hull of the earlier points. Then
- *    μ would carry errors ~ eps/1e-6 along the thin direction; such a
- *    support is within ~1e-6 of a lower-dimensional one, whose candidate
- *    passes the test below within the same margin.
+ *    FLAT_TOL·G_aa = 1e-12·G_aa, or the product of those ratios (det G /
+ *    Π G_aa) below 1e-12, i.e. when some x_ba lies within ~1e-6 (relative
+ *    to its distance from x_b0) of the affine hull of the others: B is then
+ *    affinely dependent to working precision, and a lower-dimensional
+ *    support carries the optimum within the feasibility margin below.
  *  - Feasibility: tol = FEAS_TOL·(diam² + max_j |y − x_j|²) plus, under
  *    shifted and power, 16 eps·(t'² + ρ_max²) for the rounding of R_j.
  *    FEAS_TOL = 1e-10 leaves 1e6 ulps for the cancellation in the distance
@@ -84,6 +92,12 @@
 #define FLAT_TOL 1e-12
 #define FEAS_TOL 1e-10
 #define DISC_TOL 1e-12
+#define BETA_MAX 4.0
+
+/* The support systems are solved in extended precision where the platform
+ * has it (x86-64: 64-bit mantissa): the Gram entries and the elimination
+ * cancel like 1/sin² of the flattest angle of B. */
+typedef long double real;
 
 /* Squared radius R(t) = r(t)² (0 before the birth). */
 static ALWAYS_INLINE double sq_radius(ng_law law, double rho, double t)
@@ -190,55 +204,60 @@ static ALWAYS_INLINE void try_point(search *s, const int m, int nb,
     s->best = t;
 }
 
-/* Solves the tight system of the support B = {idx[0..nb-1]} (nb ≥ 3) and
- * tries its roots. */
+/* Solves the tight system of the support B = {idx[0..nb-1]} (nb ≥ 3) in
+ * extended precision and tries its roots. */
 static ALWAYS_INLINE void try_support(search *s, const int m, const int nb,
                                       const int *idx)
 {
     const int k = nb - 1;
     const double *d2 = s->d2, *rho = s->rho;
     const int o = idx[0];
-    const double rho0 = rho[o];
-    double g[MAXV - 1][MAXV - 1], l[MAXV - 1][MAXV - 1];
-    double r0[MAXV - 1], r1[MAXV - 1];
+    const real rho0 = rho[o];
+    real g[MAXV - 1][MAXV - 1], l[MAXV - 1][MAXV - 1];
+    real r0[MAXV - 1], r1[MAXV - 1];
     for (int a = 0; a < k; a++) {
         int ia = idx[a + 1];
-        for (int c = 0; c <= a; c++) {
+        for (int c = 0; c < a; c++) {
             int ic = idx[c + 1];
-            g[a][c] = 0.5 * (d2[o * m + ia] + d2[o * m + ic] - d2[ia * m + ic]);
+            g[a][c] = 0.5L * (((real)d2[o * m + ia] + d2[o * m + ic]) -
+                              d2[ia * m + ic]);
         }
         g[a][a] = d2[o * m + ia];
-        double ra = rho[ia];
+        real ra = rho[ia];
         switch (s->law) {
         case NG_LAW_SCALED:
-            r0[a] = 0.5 * g[a][a];
-            r1[a] = -0.5 * (ra - rho0) * (ra + rho0);
+            r0[a] = 0.5L * g[a][a];
+            r1[a] = -0.5L * (ra - rho0) * (ra + rho0);
             break;
         case NG_LAW_SHIFTED:
-            r0[a] = 0.5 * (g[a][a] - (ra - rho0) * (ra + rho0));
+            r0[a] = 0.5L * (g[a][a] - (ra - rho0) * (ra + rho0));
             r1[a] = ra - rho0;
             break;
         case NG_LAW_POWER:
-            r0[a] = 0.5 * (g[a][a] + (ra - rho0) * (ra + rho0));
-            r1[a] = 0.0;
+            r0[a] = 0.5L * (g[a][a] + (ra - rho0) * (ra + rho0));
+            r1[a] = 0.0L;
             break;
         }
     }
-    /* Cholesky G = L Lᵀ with the flatness test on every pivot. */
+    /* Cholesky G = L Lᵀ with the flatness test on every pivot and on
+     * their product det G / Π G_aa. */
+    real flat = 1.0L;
     for (int a = 0; a < k; a++) {
         for (int c = 0; c < a; c++) {
-            double acc = g[a][c];
+            real acc = g[a][c];
             for (int e = 0; e < c; e++) acc -= l[a][e] * l[c][e];
             l[a][c] = acc / l[c][c];
         }
-        double piv = g[a][a];
+        real piv = g[a][a];
         for (int e = 0; e < a; e++) piv -= l[a][e] * l[a][e];
         if (!(piv > FLAT_TOL * g[a][a])) return;
-        l[a][a] = sqrt(piv);
+        flat *= piv / g[a][a];
+        if (!(flat > FLAT_TOL)) return;
+        l[a][a] = sqrtl(piv);
     }
-    double m0[MAXV - 1] = {0}, m1[MAXV - 1] = {0};
+    real m0[MAXV - 1] = {0}, m1[MAXV - 1] = {0};
     for (int a = 0; a < k; a++) { /* forward: L z = r */
-        double z0 = r0[a], z1 = r1[a];
+        real z0 = r0[a], z1 = r1[a];
         for (int e = 0; e < a; e++) {
             z0 -= l[a][e] * m0[e];
             z1 -= l[a][e] * m1[e];
@@ -247,7 +266,7 @@ static ALWAYS_INLINE void try_support(search *s, const int m, const int nb,
         m1[a] = z1 / l[a][a];
     }
     for (int a = k - 1; a >= 0; a--) { /* backward: Lᵀ μ = z */
-        double z0 = m0[a], z1 = m1[a];
+        real z0 = m0[a], z1 = m1[a];
         for (int e = a + 1; e < k; e++) {
             z0 -= l[e][a] * m0[e];
             z1 -= l[e][a] * m1[e];
@@ -255,58 +274,67 @@ static ALWAYS_INLINE void try_support(search *s, const int m, const int nb,
         m0[a] = z0 / l[a][a];
         m1[a] = z1 / l[a][a];
     }
-    double cc = 0.0, bc = 0.0, aa = 0.0;
+    real cc = 0.0L, bc = 0.0L, aa = 0.0L;
     for (int a = 0; a < k; a++) {
         cc += m0[a] * r0[a];
         bc += m0[a] * r1[a];
         aa += m1[a] * r1[a];
     }
-    double roots[2], ts[2];
+    real roots[2];
+    double ts[2];
     int nroots = 0;
     if (s->law == NG_LAW_POWER) {
-        roots[0] = 0.0;
-        ts[0] = sqrt(cc + rho0 * rho0);
+        roots[0] = 0.0L;
+        ts[0] = (double)sqrtl(cc + rho0 * rho0);
         nroots = 1;
     } else {
-        double qa, qb, qc; /* qa u² + qb u + qc = 0 */
+        real qa, qb, qc; /* qa u² + qb u + qc = 0 */
         if (s->law == NG_LAW_SCALED) {
             qa = aa;
-            qb = 2.0 * bc - rho0 * rho0;
+            qb = 2.0L * bc - rho0 * rho0;
             qc = cc;
         } else {
-            qa = aa - 1.0;
-            qb = 2.0 * (bc + rho0);
+            qa = aa - 1.0L;
+            qb = 2.0L * (bc + rho0);
             qc = cc - rho0 * rho0;
         }
-        double disc = qb * qb - 4.0 * qa * qc;
-        if (disc < 0.0) {
-            if (disc < -DISC_TOL * (qb * qb + fabs(4.0 * qa * qc))) return;
-            disc = 0.0;
+        real disc = qb * qb - 4.0L * qa * qc;
+        if (disc < 0.0L) {
+            if (disc < -DISC_TOL * (qb * qb + fabsl(4.0L * qa * qc))) return;
+            disc = 0.0L;
         }
-        double q = -0.5 * (qb + copysign(sqrt(disc), qb));
-        if (q != 0.0) {
+        real sq = sqrtl(disc);
+        real q = -0.5L * (qb + (qb < 0.0L ? -sq : sq));
+        if (q != 0.0L) {
             roots[nroots++] = qc / q;
-            if (qa != 0.0) roots[nroots++] = q / qa;
-        } else if (qa != 0.0) {
-            roots[nroots++] = 0.0; /* qb = 0 = disc, hence qc = 0 */
+            if (qa != 0.0L) roots[nroots++] = q / qa;
+        } else if (qa != 0.0L) {
+            roots[nroots++] = 0.0L; /* qb = 0 = disc, hence qc = 0 */
         }
         for (int r = 0; r < nroots; r++) {
-            double u = roots[r];
+            real u = roots[r];
             if (s->law == NG_LAW_SCALED)
-                ts[r] = u >= 0.0 ? sqrt(u) : NAN;
+                ts[r] = u >= 0.0L ? (double)sqrtl(u) : NAN;
             else
-                ts[r] = u;
+                ts[r] = (double)u;
         }
     }
     for (int r = 0; r < nroots; r++) {
         double t = ts[r];
         if (!(t == t) || !(fmax(t, s->birth_max) < s->best)) continue;
-        double beta[MAXV], sum = 0.0;
+        double beta[MAXV];
+        real sum = 0.0L, sumabs = 0.0L;
         for (int a = 0; a < k; a++) {
-            beta[a + 1] = m0[a] + roots[r] * m1[a];
-            sum += beta[a + 1];
+            real mu = m0[a] + roots[r] * m1[a];
+            beta[a + 1] = (double)mu;
+            sum += mu;
+            sumabs += fabsl(mu);
         }
-        beta[0] = 1.0 - sum;
+        beta[0] = (double)(1.0L - sum);
+        sumabs += fabsl(1.0L - sum);
+        /* The optimum has β ≥ 0 (step 1); far outside conv B the distance
+         * identity would cancel badly, so such roots are dropped. */
+        if (!(sumabs <= BETA_MAX)) continue;
         try_point(s, m, nb, idx, beta, t);
     }
 }

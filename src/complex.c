@@ -221,6 +221,7 @@ static size_t count_below(const ng_index *a, size_t len, ng_index x)
  * neighbours below chain[level-1]. Visits every extension. */
 static void descend(walk *wk, int level)
 {
+    if (level > NG_COMPLEX_MAX_DIM) return; /* never: level ≤ top_dim */
     const ng_index *cand = wk->cand[level];
     size_t ncand = wk->ncand[level];
     for (size_t idx = 0; idx < ncand; idx++) {
@@ -233,7 +234,8 @@ static void descend(walk *wk, int level)
         } else {
             wk->count[level]++;
         }
-        if (level == wk->top_dim || idx == 0) continue;
+        if (level >= wk->top_dim || level >= NG_COMPLEX_MAX_DIM || idx == 0)
+            continue;
         /* cand[0..idx) ∩ N(u): all of cand[0..idx) lies below u */
         const ng_index *nu = wk->nbr + wk->offset[u];
         size_t lu = wk->offset[u + 1] - wk->offset[u];

@@ -2,19 +2,21 @@
  * coordinate cloud (kdtree.h), by a k-d tree or by brute force.
  *
  * Invariants:
- *   - Every point-to-point distance is computed by point_distance, which
+ *   - Every point-to-point distance is finish(raw_distance(..)), which
  *     performs the operations of ng_metric_distance in the same order, on
  *     the same coordinate values (the tree copies them unchanged), so the
  *     tree, brute force and ng_metric_distance agree bit for bit.
- *   - box_distance(x, box) ≤ point_distance(x, p) in floating point for
- *     every point p inside the box: both run the same sequence of monotone
+ *   - box_raw(x, box) ≤ raw_distance(x, p) in floating point for every
+ *     point p inside the box: both run the same sequence of monotone
  *     correctly-rounded operations and |fl(p - x)| ≥ fl(lo - x) whenever
  *     p ≥ lo > x (likewise above hi). Pruning by box distance therefore
- *     never loses a point.
+ *     never loses a point. Comparisons are made on raw values (no square
+ *     root) only through raw_bound, which errs on the side of keeping.
  *   - A subtree is skipped only when its box distance is STRICTLY greater
  *     than the current k-th distance (or the radius): a subtree at exactly
  *     that distance may hold a point of equal distance and smaller index,
- *     which the (distance, index) order ranks first.
+ *     which the (distance, index) order ranks first. Candidates are ranked
+ *     by their final distance, never by the raw value.
  *   - The answer for one query point depends only on the points, never on
  *     the order in which candidates are met or on the thread schedule, so
  *     the output is identical for any thread count.
@@ -83,10 +85,21 @@ typedef struct search {
 
 /* ---- distances ---- */
 
-/* d(a, b): the operations of ng_metric_distance, in the same order. */
-static inline double point_distance(ng_metric metric,
-                                    const double *restrict a,
-                                    const double *restrict b, size_t dim)
+/* The kernels below are instantiated once per metric (the metric argument
+ * is a constant at every call site of the *_in functions), so the switches
+ * vanish from the inner loops. */
+#if defined(__GNUC__) || defined(__clang__)
+#define ALWAYS_INLINE inline __attribute__((always_inline))
+#else
+#define ALWAYS_INLINE inline
+#endif
+
+/* The distance before its last step — the sum of squares under euclidean,
+ * the distance itself otherwise: the operations of ng_metric_distance, in
+ * the same order. */
+static ALWAYS_INLINE double raw_distance(ng_metric metric,
+                                         const double *restrict a,
+                                         const double *restrict b, size_t dim)
 {
     double acc = 0.0;
     switch (metric) {
@@ -107,14 +120,30 @@ static inline double point_distance(ng_metric metric,
         double diff = a[k] - b[k];
         acc += diff * diff;
     }
-    return sqrt(acc);
+    return acc;
 }
 
-/* A lower bound of point_distance(x, p) over p in the box [lo, hi],
- * exact in floating point (see the invariants above). */
-static inline double box_distance(ng_metric metric, const double *restrict x,
-                                  const double *restrict lo,
-                                  const double *restrict hi, size_t dim)
+/* The last step: d = finish(raw). */
+static ALWAYS_INLINE double finish(ng_metric metric, double raw)
+{
+    return metric == NG_METRIC_EUCLIDEAN ? sqrt(raw) : raw;
+}
+
+/* d(a, b), bit-identical to ng_metric_distance(metric, a, b, dim). */
+static ALWAYS_INLINE double point_distance(ng_metric metric,
+                                           const double *restrict a,
+                                           const double *restrict b,
+                                           size_t dim)
+{
+    return finish(metric, raw_distance(metric, a, b, dim));
+}
+
+/* A lower bound of raw_distance(x, p) over p in the box [lo, hi], exact in
+ * floating point (see the invariants above). */
+static ALWAYS_INLINE double box_raw(ng_metric metric,
+                                    const double *restrict x,
+                                    const double *restrict lo,
+                                    const double *restrict hi, size_t dim)
 {
     double acc = 0.0;
     for (size_t k = 0; k < dim; k++) {
@@ -134,7 +163,21 @@ static inline double box_distance(ng_metric metric, const double *restrict x,
             break;
         }
     }
-    return metric == NG_METRIC_EUCLIDEAN ? sqrt(acc) : acc;
+    return acc;
+}
+
+/* A raw value B(t) such that raw > B(t) implies finish(raw) > t: things
+ * farther than B(t) in raw terms may be dropped without computing the
+ * square root, and a box farther than B(t) is STRICTLY farther than t.
+ * Under euclidean, sqrt(s) ≤ t (correctly rounded) means √s < t(1 + 2^-53),
+ * so s < t²(1 + 2^-51) < fl(t·t)(1 + 2^-50) ≤ fl(fl(t·t)(1 + 2^-49)) as
+ * long as t·t is a normal number; below t = 2^-500 the fixed bound 2^-998
+ * (whose square root 2^-499 exceeds t) is used instead. */
+static ALWAYS_INLINE double raw_bound(ng_metric metric, double t)
+{
+    if (metric != NG_METRIC_EUCLIDEAN) return t;
+    if (t < 0x1p-500) return 0x1p-998;
+    return (t * t) * (1.0 + 0x1p-49);
 }
 
 /* ---- argument checks ---- */
@@ -408,41 +451,95 @@ typedef struct stack_entry {
     double bound; /* box distance of the node from the query */
 } stack_entry;
 
-static void knn_tree_query(const ng_kdtree *t, size_t pos, size_t k,
-                           double *restrict bd, ng_index *restrict bj)
+static ALWAYS_INLINE void knn_tree_query_in(ng_metric metric,
+                                            const ng_kdtree *t, size_t pos,
+                                            size_t k, double *restrict bd,
+                                            ng_index *restrict bj)
 {
-    const ng_metric metric = t->metric;
     const size_t dim = t->dim;
     const double *x = t->coords + pos * dim;
     const ng_index self = t->index[pos];
     size_t count = 0;
+    double bound = INFINITY; /* raw_bound of the k-th distance once known */
     stack_entry stack[STACK_MAX];
     size_t top = 0;
     stack[top++] = (stack_entry){0, 0.0};
     while (top > 0) {
         stack_entry e = stack[--top];
-        if (count == k && e.bound > bd[k - 1]) continue;
+        if (e.bound > bound) continue;
         const kd_node *nd = &t->nodes[e.node];
         if (nd->right == 0) {
             for (size_t p = nd->begin; p < nd->end; p++) {
+                double raw = raw_distance(metric, x, t->coords + p * dim, dim);
+                if (raw > bound) continue;
                 ng_index j = t->index[p];
                 if (j == self) continue;
-                double d = point_distance(metric, x, t->coords + p * dim, dim);
-                if (count == k && d > bd[k - 1]) continue;
-                best_offer(bd, bj, &count, k, d, j);
+                best_offer(bd, bj, &count, k, finish(metric, raw), j);
+                if (count == k) bound = raw_bound(metric, bd[k - 1]);
             }
             continue;
         }
         size_t l = e.node + 1, r = nd->right;
         const double *bl = t->box + l * 2 * dim, *br = t->box + r * 2 * dim;
-        double dl = box_distance(metric, x, bl, bl + dim, dim);
-        double dr = box_distance(metric, x, br, br + dim, dim);
+        double dl = box_raw(metric, x, bl, bl + dim, dim);
+        double dr = box_raw(metric, x, br, br + dim, dim);
         if (dl <= dr) {
-            stack[top++] = (stack_entry){r, dr};
-            stack[top++] = (stack_entry){l, dl};
+            if (dr <= bound) stack[top++] = (stack_entry){r, dr};
+            if (dl <= bound) stack[top++] = (stack_entry){l, dl};
         } else {
-            stack[top++] = (stack_entry){l, dl};
-            stack[top++] = (stack_entry){r, dr};
+            if (dl <= bound) stack[top++] = (stack_entry){l, dl};
+            if (dr <= bound) stack[top++] = (stack_entry){r, dr};
+        }
+    }
+}
+
+static void knn_tree_query(const ng_kdtree *t, size_t pos, size_t k,
+                           double *restrict bd, ng_index *restrict bj)
+{
+    switch (t->metric) {
+    case NG_METRIC_CHEBYSHEV:
+        knn_tree_query_in(NG_METRIC_CHEBYSHEV, t, pos, k, bd, bj);
+        break;
+    case NG_METRIC_MANHATTAN:
+        knn_tree_query_in(NG_METRIC_MANHATTAN, t, pos, k, bd, bj);
+        break;
+    case NG_METRIC_EUCLIDEAN:
+    case NG_METRIC_GIVEN:
+        knn_tree_query_in(NG_METRIC_EUCLIDEAN, t, pos, k, bd, bj);
+        break;
+    }
+}
+
+/* Brute force for the queries q0..q1-1 (at most QUERY_CHUNK), candidates
+ * taken in tiles that stay in cache while every query of the block scans
+ * them. */
+static ALWAYS_INLINE void knn_brute_block_in(ng_metric metric,
+                                             const search *s, size_t q0,
+                                             size_t q1, size_t k,
+                                             double *dist, ng_index *idx)
+{
+    const size_t n = s->n, dim = s->dim;
+    size_t count[QUERY_CHUNK] = {0};
+    double bound[QUERY_CHUNK];
+    for (size_t q = 0; q < QUERY_CHUNK; q++) bound[q] = INFINITY;
+    size_t tile = BRUTE_TILE_BYTES / (dim * sizeof(double));
+    if (tile == 0) tile = 1;
+    for (size_t j0 = 0; j0 < n; j0 += tile) {
+        size_t j1 = j0 + tile < n ? j0 + tile : n;
+        for (size_t q = q0; q < q1; q++) {
+            const double *x = s->coords + q * dim;
+            double *bd = dist + q * k;
+            ng_index *bj = idx + q * k;
+            size_t c = count[q - q0];
+            double b = bound[q - q0];
+            for (size_t j = j0; j < j1; j++) {
+                double raw = raw_distance(metric, x, s->coords + j * dim, dim);
+                if (raw > b || j == q) continue;
+                best_offer(bd, bj, &c, k, finish(metric, raw), (ng_index)j);
+                if (c == k) b = raw_bound(metric, bd[k - 1]);
+            }
+            count[q - q0] = c;
+            bound[q - q0] = b;
         }
     }
 }
@@ -453,26 +550,17 @@ static void knn_tree_query(const ng_kdtree *t, size_t pos, size_t k,
 static void knn_brute_block(const search *s, size_t q0, size_t q1, size_t k,
                             double *dist, ng_index *idx)
 {
-    const size_t n = s->n, dim = s->dim;
-    size_t count[QUERY_CHUNK] = {0};
-    size_t tile = BRUTE_TILE_BYTES / (dim * sizeof(double));
-    if (tile == 0) tile = 1;
-    for (size_t j0 = 0; j0 < n; j0 += tile) {
-        size_t j1 = j0 + tile < n ? j0 + tile : n;
-        for (size_t q = q0; q < q1; q++) {
-            const double *x = s->coords + q * dim;
-            double *bd = dist + q * k;
-            ng_index *bj = idx + q * k;
-            size_t c = count[q - q0];
-            for (size_t j = j0; j < j1; j++) {
-                if (j == q) continue;
-                double d = point_distance(s->metric, x, s->coords + j * dim,
-                                          dim);
-                if (c == k && d > bd[k - 1]) continue;
-                best_offer(bd, bj, &c, k, d, (ng_index)j);
-            }
-            count[q - q0] = c;
-        }
+    switch (s->metric) {
+    case NG_METRIC_CHEBYSHEV:
+        knn_brute_block_in(NG_METRIC_CHEBYSHEV, s, q0, q1, k, dist, idx);
+        break;
+    case NG_METRIC_MANHATTAN:
+        knn_brute_block_in(NG_METRIC_MANHATTAN, s, q0, q1, k, dist, idx);
+        break;
+    case NG_METRIC_EUCLIDEAN:
+    case NG_METRIC_GIVEN:
+        knn_brute_block_in(NG_METRIC_EUCLIDEAN, s, q0, q1, k, dist, idx);
+        break;
     }
 }
 
@@ -584,20 +672,20 @@ static int entry_by_index(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* Appends to l the kept neighbours of the query at position pos (original
- * index self, coordinates x); 0 when out of memory. */
-static int within_query(const search *s, size_t pos, size_t self,
-                        double radius, ng_pair_filter filter, void *ctx,
-                        nbr_list *l)
+static ALWAYS_INLINE int within_query_in(ng_metric metric, const search *s,
+                                         size_t pos, size_t self,
+                                         double radius, ng_pair_filter filter,
+                                         void *ctx, nbr_list *l)
 {
-    const ng_metric metric = s->metric;
     const size_t dim = s->dim;
     const double *x = s->coords + pos * dim;
+    const double bound = raw_bound(metric, radius);
     const ng_kdtree *t = s->tree;
     if (t == NULL) {
         for (size_t j = 0; j < s->n; j++) {
-            if (j == self) continue;
-            double d = point_distance(metric, x, s->coords + j * dim, dim);
+            double raw = raw_distance(metric, x, s->coords + j * dim, dim);
+            if (raw > bound || j == self) continue;
+            double d = finish(metric, raw);
             if (d <= radius && (filter == NULL || filter(self, j, d, ctx)))
                 if (!list_push(l, (ng_index)j, d)) return 0;
         }
@@ -609,7 +697,7 @@ static int within_query(const search *s, size_t pos, size_t self,
     while (top > 0) {
         size_t node = stack[--top];
         const double *lo = t->box + node * 2 * dim;
-        if (box_distance(metric, x, lo, lo + dim, dim) > radius) continue;
+        if (box_raw(metric, x, lo, lo + dim, dim) > bound) continue;
         const kd_node *nd = &t->nodes[node];
         if (nd->right != 0) {
             stack[top++] = nd->right;
@@ -617,14 +705,37 @@ static int within_query(const search *s, size_t pos, size_t self,
             continue;
         }
         for (size_t p = nd->begin; p < nd->end; p++) {
+            double raw = raw_distance(metric, x, t->coords + p * dim, dim);
+            if (raw > bound) continue;
             ng_index j = t->index[p];
             if (j == self) continue;
-            double d = point_distance(metric, x, t->coords + p * dim, dim);
+            double d = finish(metric, raw);
             if (d <= radius && (filter == NULL || filter(self, j, d, ctx)))
                 if (!list_push(l, j, d)) return 0;
         }
     }
     return 1;
+}
+
+/* Appends to l the kept neighbours of the query at position pos (original
+ * index self); 0 when out of memory. */
+static int within_query(const search *s, size_t pos, size_t self,
+                        double radius, ng_pair_filter filter, void *ctx,
+                        nbr_list *l)
+{
+    switch (s->metric) {
+    case NG_METRIC_CHEBYSHEV:
+        return within_query_in(NG_METRIC_CHEBYSHEV, s, pos, self, radius,
+                               filter, ctx, l);
+    case NG_METRIC_MANHATTAN:
+        return within_query_in(NG_METRIC_MANHATTAN, s, pos, self, radius,
+                               filter, ctx, l);
+    case NG_METRIC_EUCLIDEAN:
+    case NG_METRIC_GIVEN:
+        break;
+    }
+    return within_query_in(NG_METRIC_EUCLIDEAN, s, pos, self, radius, filter,
+                           ctx, l);
 }
 
 /* How it works: queries are taken in blocks of WITHIN_BLOCK positions (in

@@ -11,7 +11,10 @@ DESIGN §2.3, written again here.
 
 Usage: /usr/bin/python3 ref_cech.py VALUES_TOOL [--count N] [--seed S]
 N random weighted simplices of 2–5 vertices in R^2, R^3 and R^7 per law.
-Exit 0 when every value agrees within the tolerance, 1 otherwise.
+Exit 0 when every value agrees within the tolerance, 1 otherwise. Where
+cvxopt cannot narrow its bracket to the tolerance (a few cases in a
+thousand), the tool's value must still lie inside it; at most 1% of the
+cases may be such.
 """
 import argparse
 import math
@@ -28,7 +31,7 @@ from cvxopt import matrix, solvers
 # its primal point y an upper bound, so the tool's value must lie in
 # [lower, upper] widened by REL_TOL, and the bracket must be that narrow.
 solvers.options.update({"show_progress": False, "maxiters": 200})
-SOLVER_TOLS = (1e-11, 1e-9)  # retried looser when the tight run breaks down
+SOLVER_TOLS = (1e-11, 1e-10, 1e-9, 1e-8)  # the tight runs may break down
 REL_TOL = 1e-8      # Čech: tool vs the cvxopt bracket, relative
 RIPS_TOL = 1e-12    # Rips: tool vs the formulas, relative
 
@@ -37,8 +40,18 @@ DIMS = (2, 3, 7)
 
 
 def socp_cech(law, x, rho):
-    """min t subject to the law's cone constraints; x is m × d."""
+    """Bracket [lower, upper] of min t subject to the law's cone
+    constraints; x is m × d. The problem is centred and scaled to unit size
+    first (the values scale with it: t ∝ size under scaled, and under
+    shifted and power with rho scaled alike), which keeps cvxopt's absolute
+    tolerances meaningful. Of the runs at SOLVER_TOLS the narrowest bracket
+    is returned (stopping at the first one narrower than REL_TOL/10);
+    (nan, nan) when every run failed."""
     m, d = x.shape
+    centre = x.mean(axis=0)
+    size = max(float(np.max(np.abs(x - centre))), 1e-300)
+    xs = (x - centre) / size
+    rs = rho if law == "scaled" else rho / size
     c = matrix([0.0] * d + [1.0])
     gq, hq = [], []
     for i in range(m):
@@ -46,30 +59,37 @@ def socp_cech(law, x, rho):
         g = np.zeros((rows, d + 1))
         h = np.zeros(rows)
         if law == "scaled":
-            g[0, d] = -rho[i]
+            g[0, d] = -rs[i]
         elif law == "shifted":
             g[0, d] = -1.0
-            h[0] = -rho[i]
+            h[0] = -rs[i]
         else:
             g[0, d] = -1.0
-            h[d + 1] = rho[i]
+            h[d + 1] = rs[i]
         for k in range(d):
             g[1 + k, k] = -1.0
-            h[1 + k] = -x[i, k]
+            h[1 + k] = -xs[i, k]
         gq.append(matrix(g))
         hq.append(matrix(h))
+    best = (math.nan, math.nan)
     for tol in SOLVER_TOLS:
         solvers.options.update({"abstol": tol, "reltol": tol, "feastol": tol})
         try:
             sol = solvers.socp(c, Gq=gq, hq=hq)
         except (ValueError, ArithmeticError):
             continue
-        if sol["x"] is not None and sol["status"] == "optimal":
+        if sol["x"] is None or sol["dual objective"] is None:
+            continue  # "unknown" runs count too: the bracket judges them
+        y = np.array(sol["x"]).ravel()[:d] * size + centre
+        lower = float(sol["dual objective"]) * size
+        upper = f_value(law, x, rho, y)
+        if lower > upper * (1 + REL_TOL):
+            continue  # a broken-down run: its dual value is no bound
+        if math.isnan(best[0]) or upper - lower < best[1] - best[0]:
+            best = (lower, upper)
+        if upper - lower <= 0.1 * REL_TOL * upper:
             break
-    else:
-        return math.nan, math.nan
-    y = np.array(sol["x"]).ravel()[:d]
-    return float(sol["dual objective"]), f_value(law, x, rho, y)
+    return best
 
 
 def f_value(law, x, rho, y):
@@ -142,21 +162,27 @@ def main():
         out = subprocess.run([args.tool, f.name], capture_output=True,
                              text=True, check=True).stdout.split("\n")
     bad = 0
+    inconclusive = 0
     worst = {law: 0.0 for law in LAWS}
     worst_gap = {law: 0.0 for law in LAWS}
+    worst_above = {law: -math.inf for law in LAWS}
     for (law, x, rho), line in zip(cases, out):
         rips, cech, rips_mono, cech_mono = (float(v) for v in line.split())
         ref_rips = rips_formula(law, x, rho)
         lower, upper = socp_cech(law, x, rho)
         scale = max(abs(upper), 1e-300)
-        rel = max(lower - cech, cech - upper, 0.0) / scale
-        gap = (upper - lower) / scale
+        above, below = (cech - upper) / scale, (lower - cech) / scale
+        rel = max(above, below, 0.0)
+        gap = abs(upper - lower) / scale
         worst[law] = max(worst[law], rel)
+        worst_above[law] = max(worst_above[law], above)
         worst_gap[law] = max(worst_gap[law], gap)
         problems = []
         if not abs(rips - ref_rips) <= RIPS_TOL * ref_rips:
             problems.append(f"rips {rips!r} vs formula {ref_rips!r}")
-        if not (rel <= REL_TOL and gap <= REL_TOL):
+        if rel <= REL_TOL and not gap <= REL_TOL:
+            inconclusive += 1  # cvxopt could not narrow it; tool inside
+        elif not (rel <= REL_TOL and gap <= REL_TOL):
             problems.append(f"cech {cech!r} vs cvxopt bracket [{lower!r}, "
                             f"{upper!r}] (outside by {rel:.3g}, width {gap:.3g})")
         if not (rips_mono == rips and cech_mono >= cech and cech_mono >= rips):
@@ -170,9 +196,12 @@ def main():
     for law in LAWS:
         print(f"{law}: {args.count} simplices, worst distance outside the "
               f"cvxopt bracket {worst[law]:.3g}, widest bracket "
-              f"{worst_gap[law]:.3g} (tolerance {REL_TOL:g}, relative)")
-    print(f"{bad} mismatches")
-    return 1 if bad else 0
+              f"{worst_gap[law]:.3g} (tolerance {REL_TOL:g}, relative); "
+              f"largest excess over the primal bound f(y) "
+              f"{worst_above[law]:.3g}")
+    print(f"{bad} mismatches; {inconclusive} simplices inside a cvxopt "
+          f"bracket wider than {REL_TOL:g} (at most 1% allowed)")
+    return 1 if bad or inconclusive > 0.01 * len(cases) else 0
 
 
 if __name__ == "__main__":

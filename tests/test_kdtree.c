@@ -114,15 +114,17 @@ static void expect_knn(ng_kdtree_method method, const double *pts, size_t n,
                      : ng_kdtree_knn_using(method, pts, n, dim, metric, k,
                                            threads, d, j, &err);
     ck_assert_msg(status == NG_OK, "%s", err.message);
-    for (size_t i = 0; i < n * k; i++) {
-        ck_assert_msg(j[i] == ref_j[i] && memcmp(&d[i], &ref_d[i],
-                                                 sizeof d[i]) == 0,
-                      "method %d metric %s dim %zu n %zu k %zu threads %d: "
-                      "point %zu rank %zu: got (%.17g, %u) expected "
-                      "(%.17g, %u)", (int)method, ng_metric_name(metric),
-                      dim, n, k, threads, i / k, i % k, d[i], j[i], ref_d[i],
-                      ref_j[i]);
-    }
+    /* one assertion per run: Check records every assertion it passes */
+    size_t bad = n * k;
+    for (size_t i = 0; i < n * k && bad == n * k; i++)
+        if (j[i] != ref_j[i] || memcmp(&d[i], &ref_d[i], sizeof d[i]) != 0)
+            bad = i;
+    ck_assert_msg(bad == n * k,
+                  "method %d metric %s dim %zu n %zu k %zu threads %d: "
+                  "point %zu rank %zu: got (%.17g, %u) expected (%.17g, %u)",
+                  (int)method, ng_metric_name(metric), dim, n, k, threads,
+                  bad / k, bad % k, d[bad % (n * k)], j[bad % (n * k)],
+                  ref_d[bad % (n * k)], ref_j[bad % (n * k)]);
     free(d);
     free(j);
 }
@@ -338,23 +340,28 @@ static void expect_within(ng_kdtree_method method, const double *pts,
     ck_assert_msg(status == NG_OK, "%s", err.message);
     ck_assert_uint_eq(g.n, n);
     ck_assert_uint_eq(g.offset[0], 0);
-    size_t o = 0;
-    for (size_t i = 0; i < n; i++) {
-        for (size_t j = 0; j < n; j++) {
+    /* one assertion per run: Check records every assertion it passes */
+    size_t o = 0, bad_i = n, bad_j = n;
+    for (size_t i = 0; i < n && bad_i == n; i++) {
+        for (size_t j = 0; j < n && bad_i == n; j++) {
             if (j == i) continue;
             double d = ng_metric_distance(metric, pts + i * dim, pts + j * dim,
                                           dim);
             if (!(d <= radius[i]) || (filter && !filter(i, j, d, ctx)))
                 continue;
-            ck_assert_msg(o < g.offset[i + 1] && g.nbr[o] == j &&
-                              memcmp(&g.dist[o], &d, sizeof d) == 0,
-                          "method %d metric %s: pair (%zu, %zu) at %.17g "
-                          "missing or misplaced", (int)method,
-                          ng_metric_name(metric), i, j, d);
+            if (o >= g.offset[i + 1] || g.nbr[o] != j ||
+                memcmp(&g.dist[o], &d, sizeof d) != 0) {
+                bad_i = i;
+                bad_j = j;
+            }
             o++;
         }
-        ck_assert_uint_eq(g.offset[i + 1], o);
+        if (bad_i == n && g.offset[i + 1] != o) bad_i = i;
     }
+    ck_assert_msg(bad_i == n,
+                  "method %d metric %s dim %zu threads %d: row %zu wrong "
+                  "(first missing or misplaced neighbour %zu)", (int)method,
+                  ng_metric_name(metric), dim, threads, bad_i, bad_j);
     ng_csr_free(&g);
     ck_assert_ptr_null(g.offset);
     ng_csr_free(NULL);

@@ -7,6 +7,7 @@
 #include "nervegap/common.h"
 
 int cmd_radii(int argc, char **argv);
+int cmd_run(int argc, char **argv);
 int cmd_values(int argc, char **argv);
 
 /* Prints "nervegap COMMAND: message" to stderr and returns the exit code of

@@ -11,6 +11,7 @@ static const struct {
     int (*run)(int argc, char **argv);
     const char *summary;
 } commands[] = {
+    {"run", cmd_run, "Čech and Rips barcodes over adaptive balls (HDF5)"},
     {"radii", cmd_radii, "base radius and birth of every point (CSV)"},
     {"values", cmd_values, "Rips and Čech values of given simplices (CSV)"},
 };

@@ -1,0 +1,72 @@
+/* results.h — the HDF5 results file of a run (DESIGN §5).
+ *
+ * Layout written here:
+ *   /                 attrs format = "nervegap-results", format_version,
+ *                     tool_version, command
+ *   /input            attrs source, n_points, ambient_dim, metric
+ *   /vertices/radius  float64[n]   base radius after normalisation
+ *   /vertices/birth   float64[n]
+ *   /scheme           attrs radius_rule, law, scale_limit, max_degree,
+ *                     truncated
+ *   /cech/dim{k}/bars float64[m][2] birth, death (+inf: alive at the limit)
+ *   /cech/dim{k}/birth_vertices int64[m][k+1], death_vertices int64[m][k+2]
+ *   /rips/dim{k}/…    the same
+ *   /slices/values    float64[L], attr kind; /slices/{j}/dim{k}/… likewise
+ *
+ * Safety: the file is written under a temporary name in the directory of
+ * the final path and renamed onto it only when complete, so a killed or
+ * failed run never leaves a file at the final path that looks finished.
+ */
+#ifndef NERVEGAP_RESULTS_H
+#define NERVEGAP_RESULTS_H
+
+#include "nervegap/common.h"
+#include "nervegap/persistence.h"
+
+#define NG_RESULTS_FORMAT "nervegap-results"
+#define NG_RESULTS_FORMAT_VERSION 1
+
+/* Everything about a run that the file records besides the barcodes.
+ * All pointers are borrowed. */
+typedef struct ng_run_record {
+    const char *command;       /* the full command line */
+    const char *source;        /* input path (or path:/dataset) */
+    size_t n_points;           /* points after merging */
+    size_t ambient_dim;        /* 0 for a distance matrix */
+    const char *metric;
+    const char *radius_rule;   /* canonical text, e.g. "knn:8" */
+    const char *law;
+    double scale_limit;        /* T */
+    int max_degree;            /* D */
+    int truncated;             /* nonzero: some bar was alive at T */
+    const double *radius;      /* n_points base radii */
+    const double *birth;       /* n_points vertex births */
+    const char *slice_kind;    /* "factor" or "shift"; NULL: no slices */
+    const double *slice_values;
+    int n_slices;
+} ng_run_record;
+
+/* An output file being prepared: created under a temporary name so that an
+ * unwritable path fails before any computation. */
+typedef struct ng_results_file ng_results_file;
+
+/* Creates the temporary file beside path. On success *out owns it: finish
+ * with ng_results_commit, or ng_results_abort to remove it. NG_ERR_IO
+ * naming the path when it cannot be created. */
+NG_API int ng_results_open(const char *path, ng_results_file **out,
+                           ng_error *err);
+
+/* Writes the record and the barcodes (filtration 0 = Čech, 1 = Rips, 2.. =
+ * the slices in order), closes the file and renames it onto the final path.
+ * f is freed whatever the outcome; on failure the temporary file is removed
+ * and nothing is left at the final path (NG_ERR_IO or NG_ERR_NOMEM). */
+NG_API int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
+                             const ng_persistence *p, ng_error *err);
+
+/* Removes the temporary file and frees f. Accepts NULL. */
+NG_API void ng_results_abort(ng_results_file *f);
+
+/* The temporary path of f (for signal handlers that must unlink it). */
+NG_API const char *ng_results_temp_path(const ng_results_file *f);
+
+#endif

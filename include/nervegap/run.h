@@ -1,0 +1,85 @@
+/* run.h — the main job (DESIGN §3): from a prepared cloud and its radii to
+ * the barcodes of the Čech, Rips and slice filtrations over one simplex set.
+ *
+ *   neighbour graph (pairs with Rips edge value ≤ T, found with the k-d
+ *   tree; for a distance matrix, from the matrix) → cliques up to dimension
+ *   D + 1 with their values (Čech, Rips, slices) → mod-2 reduction.
+ *
+ * Filtration order in the result: 0 = Čech, 1 = Rips, 2.. = the slices in
+ * the order given. Slice j of kind factor λ: max(rips, cech/λ); of kind
+ * shift δ: max(rips, cech − δ) (DESIGN §2.5).
+ *
+ * Scale limit: a given T, or auto: the full scale (the first t at which one
+ * sample point lies in every ball, so both complexes are cones) when the
+ * complex up to it fits the memory budget, else the largest scale that
+ * fits (found by bisection on the size estimate).
+ */
+#ifndef NERVEGAP_RUN_H
+#define NERVEGAP_RUN_H
+
+#include "nervegap/cloud.h"
+#include "nervegap/common.h"
+#include "nervegap/complex.h"
+#include "nervegap/persistence.h"
+#include "nervegap/radius.h"
+
+#define NG_RUN_MAX_SLICES 64
+
+typedef enum ng_slice_kind {
+    NG_SLICE_NONE = 0,
+    NG_SLICE_FACTOR,
+    NG_SLICE_SHIFT
+} ng_slice_kind;
+
+/* Progress of a long stage: called from the calling thread only. */
+typedef void (*ng_progress_fn)(const char *stage, double fraction,
+                               void *ctx);
+
+typedef struct ng_run_options {
+    int max_degree;        /* D, 0..4 (default 1) */
+    int scale_auto;        /* nonzero: scale limit auto */
+    double scale_limit;    /* T when !scale_auto */
+    size_t budget_bytes;   /* memory the complex and reduction may use */
+    ng_slice_kind slice_kind;
+    int n_slices;
+    double slice_values[NG_RUN_MAX_SLICES]; /* λ ≥ 1 or δ ≥ 0 */
+    int threads;           /* ≤ 0: the OpenMP default */
+    ng_progress_fn progress; /* may be NULL */
+    void *progress_ctx;
+} ng_run_options;
+
+/* Defaults: D = 1, auto scale limit, half the physical memory, no slices. */
+NG_API void ng_run_options_init(ng_run_options *opt);
+
+/* Parses "factor:1.02,1.05" or "shift:0.1,0.2" into opt (the text of
+ * --slices). NG_ERR_USAGE naming --slices on error. */
+NG_API int ng_run_parse_slices(const char *text, ng_run_options *opt,
+                               ng_error *err);
+
+/* Parses a memory size: "4G", "512M", "1.5GiB", "1000000" (bytes).
+ * NG_ERR_USAGE naming --budget on error. */
+NG_API int ng_run_parse_budget(const char *text, size_t *out, ng_error *err);
+
+typedef struct ng_run_result {
+    double scale_limit;      /* T used */
+    double full_scale;       /* the full scale, or NaN when not computed */
+    int limited_by_budget;   /* auto chose T < full scale for the budget */
+    int truncated;           /* some bar is alive at T (beyond the one
+                                essential degree-0 class per filtration) */
+    ng_complex_size size;    /* the simplex set */
+    ng_persistence *persistence; /* owned; ng_run_result_free */
+} ng_run_result;
+
+/* Runs the job. cloud and radii come from ng_radii_compute under scheme.
+ * On success out owns the persistence (free with ng_run_result_free). On
+ * failure out is zeroed: NG_ERR_BUDGET when a given T does not fit (the
+ * message says how large it would be and which T would fit), NG_ERR_USAGE,
+ * NG_ERR_INPUT, NG_ERR_NOMEM. */
+NG_API int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
+                          const ng_scheme *scheme, const ng_run_options *opt,
+                          ng_run_result *out, ng_error *err);
+
+/* Frees what out owns and zeroes it. Accepts NULL. */
+NG_API void ng_run_result_free(ng_run_result *out);
+
+#endif

@@ -1,0 +1,234 @@
+/* cmd_run.c — `nervegap run`: the main job, from a cloud to the results
+ * file. The output file is created (under a temporary name) before any
+ * computation so that an unwritable path fails at once; SIGINT and SIGTERM
+ * remove it and exit with 130 / 143. */
+#include "commands.h"
+#include "nervegap/results.h"
+#include "nervegap/run.h"
+#include "scheme_flags.h"
+
+#include <errno.h>
+#include <math.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+static const char run_help[] =
+    "Usage: nervegap run INPUT [scheme flags] [run flags] -o OUT.h5\n"
+    "       nervegap run --distances FILE [scheme flags] [run flags] -o OUT.h5\n"
+    "\n"
+    "Builds the Čech and Rips filtrations over the same balls (and the\n"
+    "slices between them), computes their mod-2 barcodes and writes them to\n"
+    "OUT.h5 (written under a temporary name, renamed when complete).\n"
+    "\n"
+    "Run flags:\n"
+    "  -o, --output OUT.h5     the results file (required)\n"
+    "  --max-degree D          homology degrees 0..D (default 1, at most 4)\n"
+    "  --scale-limit T|auto    cut the filtrations at scale T; auto (default):\n"
+    "                          the full scale if the complex fits --budget,\n"
+    "                          else the largest scale that fits\n"
+    "  --slices factor:L,..    also the slices max(rips, cech/L) (L ≥ 1), or\n"
+    "  --slices shift:D,..     max(rips, cech - D) (D ≥ 0)\n"
+    "  --budget SIZE           memory for the complex and the reduction, e.g.\n"
+    "                          4G (default: half the physical memory)\n"
+    "  --quiet                 no progress lines on stderr\n";
+
+static volatile sig_atomic_t stop_signal = 0;
+static const char *temp_path_for_signal = NULL;
+
+static void on_signal(int sig)
+{
+    stop_signal = sig;
+    if (temp_path_for_signal) unlink(temp_path_for_signal);
+    _exit(128 + sig);
+}
+
+typedef struct progress_state {
+    int quiet;
+    struct timespec start;
+} progress_state;
+
+static double seconds_since(const struct timespec *t0)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)(t.tv_sec - t0->tv_sec) +
+           1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
+}
+
+static void progress(const char *stage, double fraction, void *opaque)
+{
+    progress_state *p = opaque;
+    if (p->quiet || fraction < 1.0) return;
+    fprintf(stderr, "nervegap run: %-12s done at %.2f s\n", stage,
+            seconds_since(&p->start));
+}
+
+/* The command line as one string, arguments with spaces quoted. */
+static char *join_command(int argc, char **argv)
+{
+    size_t len = 1;
+    for (int i = 0; i < argc; i++) len += strlen(argv[i]) + 3;
+    char *s = malloc(len);
+    if (s == NULL) return NULL;
+    s[0] = '\0';
+    for (int i = 0; i < argc; i++) {
+        int quote = strpbrk(argv[i], " \t\"'") != NULL || argv[i][0] == '\0';
+        if (i > 0) strcat(s, " ");
+        if (quote) strcat(s, "'");
+        strcat(s, argv[i]);
+        if (quote) strcat(s, "'");
+    }
+    return s;
+}
+
+int cmd_run(int argc, char **argv)
+{
+    scheme_flags f = {0};
+    const char *output = NULL, *max_degree = NULL, *scale_limit = NULL,
+               *slices = NULL, *budget = NULL;
+    int quiet = 0;
+    const cli_option table[] = {
+        SCHEME_OPTIONS(f),
+        {"output", "-o", 1, &output, NULL},
+        {"max-degree", NULL, 1, &max_degree, NULL},
+        {"scale-limit", NULL, 1, &scale_limit, NULL},
+        {"slices", NULL, 1, &slices, NULL},
+        {"budget", NULL, 1, &budget, NULL},
+        {"quiet", NULL, 0, NULL, &quiet},
+        {NULL, NULL, 0, NULL, NULL},
+    };
+    cli_args args;
+    ng_error err;
+    ng_error_clear(&err);
+    if (cli_parse(argc, argv, 2, "run", table, &args, &err) != NG_OK)
+        return cli_fail("run", &err);
+    if (args.help) {
+        fputs(run_help, stdout);
+        fputs(scheme_flags_help, stdout);
+        return 0;
+    }
+
+    ng_run_options opt;
+    ng_run_options_init(&opt);
+    if (args.n_positional > 1)
+        ng_error_set(&err, NG_ERR_USAGE, "expected one INPUT, got %d",
+                     args.n_positional);
+    else if (output == NULL)
+        ng_error_set(&err, NG_ERR_USAGE,
+                     "-o OUT.h5 is required (see nervegap run --help)");
+    if (err.code == NG_OK && max_degree) {
+        char *end;
+        long d = strtol(max_degree, &end, 10);
+        if (*max_degree == '\0' || *end != '\0' || d < 0 || d > 4)
+            ng_error_set(&err, NG_ERR_USAGE,
+                         "--max-degree %s: expected 0, 1, 2, 3 or 4",
+                         max_degree);
+        opt.max_degree = (int)d;
+    }
+    if (err.code == NG_OK && scale_limit && strcmp(scale_limit, "auto")) {
+        char *end;
+        errno = 0;
+        double t = strtod(scale_limit, &end);
+        if (*scale_limit == '\0' || *end != '\0' || errno != 0 ||
+            !isfinite(t) || t < 0.0)
+            ng_error_set(&err, NG_ERR_USAGE,
+                         "--scale-limit %s: expected a scale ≥ 0 or auto",
+                         scale_limit);
+        opt.scale_auto = 0;
+        opt.scale_limit = t;
+    }
+    if (err.code == NG_OK && slices)
+        ng_run_parse_slices(slices, &opt, &err);
+    if (err.code == NG_OK && budget)
+        ng_run_parse_budget(budget, &opt.budget_bytes, &err);
+    if (err.code != NG_OK) return cli_fail("run", &err);
+
+    progress_state prog = {quiet, {0, 0}};
+    clock_gettime(CLOCK_MONOTONIC, &prog.start);
+    opt.progress = progress;
+    opt.progress_ctx = &prog;
+
+    ng_scheme scheme;
+    ng_cloud *cloud = NULL;
+    ng_radii radii = {0};
+    ng_run_result result = {0};
+    ng_results_file *file = NULL;
+    char *command = NULL;
+    int code = 0;
+    if (scheme_flags_load(&f, "run",
+                          args.n_positional ? args.positional[0] : NULL,
+                          &scheme, &opt.threads, &cloud, &err) != NG_OK ||
+        ng_results_open(output, &file, &err) != NG_OK) {
+        code = cli_fail("run", &err);
+        goto cleanup;
+    }
+    temp_path_for_signal = ng_results_temp_path(file);
+    signal(SIGINT, on_signal);
+    signal(SIGTERM, on_signal);
+
+    if (ng_radii_compute(cloud, &scheme, opt.threads, &radii, &err) != NG_OK) {
+        code = cli_fail("run", &err);
+        goto cleanup;
+    }
+    progress("radii", 1.0, &prog);
+    if (ng_run_compute(cloud, &radii, &scheme, &opt, &result, &err) != NG_OK) {
+        code = cli_fail("run", &err);
+        goto cleanup;
+    }
+    if (!quiet && result.limited_by_budget)
+        fprintf(stderr,
+                "nervegap run: scale limit %.6g chosen to fit the memory "
+                "budget (the full scale is %s%.6g); bars alive there are "
+                "truncated\n",
+                result.scale_limit, isnan(result.full_scale) ? "above " : "",
+                isnan(result.full_scale) ? result.scale_limit
+                                         : result.full_scale);
+
+    command = join_command(argc, argv);
+    char rule[NG_RADIUS_TEXT_MAX + 16];
+    ng_radius_format(&scheme.rule, rule, sizeof rule);
+    ng_run_record rec = {
+        .command = command ? command : "",
+        .source = cloud->source,
+        .n_points = cloud->n,
+        .ambient_dim = cloud->dim,
+        .metric = ng_metric_name(scheme.metric),
+        .radius_rule = rule,
+        .law = ng_law_name(scheme.law),
+        .scale_limit = result.scale_limit,
+        .max_degree = opt.max_degree,
+        .truncated = result.truncated,
+        .radius = radii.rho,
+        .birth = radii.birth,
+        .slice_kind = opt.slice_kind == NG_SLICE_FACTOR  ? "factor"
+                      : opt.slice_kind == NG_SLICE_SHIFT ? "shift"
+                                                         : NULL,
+        .slice_values = opt.slice_values,
+        .n_slices = opt.slice_kind == NG_SLICE_NONE ? 0 : opt.n_slices,
+    };
+    ng_results_file *committing = file;
+    file = NULL; /* commit frees it whatever the outcome */
+    if (ng_results_commit(committing, &rec, result.persistence, &err) !=
+        NG_OK) {
+        code = cli_fail("run", &err);
+        goto cleanup;
+    }
+    temp_path_for_signal = NULL;
+    if (!quiet)
+        fprintf(stderr, "nervegap run: wrote %s (scale limit %.6g, %zu "
+                        "simplices) in %.2f s\n",
+                output, result.scale_limit, result.size.total,
+                seconds_since(&prog.start));
+cleanup:
+    temp_path_for_signal = NULL;
+    ng_results_abort(file);
+    free(command);
+    ng_run_result_free(&result);
+    ng_radii_free(&radii);
+    ng_cloud_free(cloud);
+    return code;
+}

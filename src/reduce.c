@@ -1,0 +1,586 @@
+/* reduce.c — persistence barcodes of the filtrations of a complex by mod-2
+ * reduction (persistence.h).
+ *
+ * Invariants: each filtration is reduced by one thread, sequentially, in a
+ * fixed order; filtrations only read the shared complex. So the output is
+ * the same for any number of threads. The total order of a filtration is
+ * (value, dimension, key); two simplices of one dimension compare by
+ * (value, table position), since the tables are in key order.
+ *
+ * How it works.
+ *   The standard algorithm (Edelsbrunner, Letscher, Zomorodian, "Topological
+ *   persistence and simplification", Discrete Comput. Geom. 28, 2002; see also
+ *   Edelsbrunner and Harer, "Computational Topology", 2010) reduces the
+ *   boundary matrix, columns in filtration order, by adding to a column
+ *   the earlier column with the same lowest non-zero entry (its pivot)
+ *   until pivots are distinct; a column with pivot i pairs simplex i
+ *   (birth) with the column's simplex (death), and unpaired simplices
+ *   whose columns vanish give the classes that never die.
+ *
+ *   Cohomology. The coboundary matrix is the boundary matrix transposed
+ *   with rows and columns in reverse order. Reducing it gives the same
+ *   pairs of simplices (de Silva, Morozov, Vejdemo-Johansson, "Dualities
+ *   in persistent (co)homology", Inverse Problems 27, 2011): here the
+ *   column of a k-simplex σ holds its cofacets, columns are taken from the
+ *   latest k-simplex to the earliest, and the pivot of a column is its
+ *   EARLIEST cofacet τ; a pair (σ, τ) is the bar [value σ, value τ) in
+ *   degree k. For Rips-like complexes the coboundary columns of low
+ *   degrees are short and most of them need no additions at all.
+ *
+ *   Clearing (Chen and Kerber, "Persistent homology computation with a
+ *   twist", EuroCG 2011). A k-simplex that is the pivot of some column in
+ *   degree k − 1 is a death simplex, so its own column in degree k must
+ *   reduce to zero: it is skipped without any work. Degrees are therefore
+ *   reduced in increasing order, each passing its pivot table on as the
+ *   list of columns to skip. Degree 0 is done by union–find over the edges
+ *   in filtration order (the elder rule: when an edge joins two
+ *   components, the one whose oldest vertex is younger dies, paired with
+ *   that vertex); the joining edges are the pivots of degree 0.
+ *
+ *   Apparent pairs and implicit coboundaries (U. Bauer, "Ripser: efficient
+ *   computation of Vietoris–Rips persistence barcodes", J. Appl. Comput.
+ *   Topol. 5, 2021). Columns are never stored: the cofacets of a simplex
+ *   are enumerated from the neighbour lists when needed (complex.c), and a
+ *   reduced column is kept only as the list V of simplices whose
+ *   coboundaries it sums. The working column is a binary heap of cofacets
+ *   keyed by filtration order; equal entries cancel in pairs when they
+ *   reach the top (mod-2 addition), so the first entry that survives is the
+ *   pivot. Before building a heap, a column checks for an apparent pair:
+ *   if its earliest cofacet τ has σ as its LATEST facet, no later column
+ *   can contain τ, so τ is free and (σ, τ) is a pair with no additions; the
+ *   column is then recorded with an empty V.
+ *
+ *   The scale limit T cuts every filtration: simplices with value > T are
+ *   not in it, so a class alive at T gets death +inf (a truncated bar).
+ *   Bars with birth == death are paired as usual (they matter for clearing)
+ *   but are not reported.
+ */
+#include "nervegap/persistence.h"
+
+#include "alloc.h"
+#include "complex_internal.h"
+
+#include <math.h>
+#include <omp.h>
+#include <stdlib.h>
+#include <string.h>
+
+typedef struct entry {
+    double value;
+    uint32_t pos;
+} entry;
+
+static int entry_less(entry a, entry b)
+{
+    return a.value < b.value || (a.value == b.value && a.pos < b.pos);
+}
+
+/* Bottom-up merge sort by (value, pos); tmp has room for n entries. */
+static void sort_entries(entry *a, entry *tmp, size_t n)
+{
+    entry *src = a, *dst = tmp;
+    for (size_t width = 1; width < n; width *= 2) {
+        for (size_t lo = 0; lo < n; lo += 2 * width) {
+            size_t mid = lo + width < n ? lo + width : n;
+            size_t hi = lo + 2 * width < n ? lo + 2 * width : n;
+            size_t i = lo, r = mid, o = lo;
+            while (i < mid && r < hi)
+                dst[o++] = entry_less(src[r], src[i]) ? src[r++] : src[i++];
+            while (i < mid) dst[o++] = src[i++];
+            while (r < hi) dst[o++] = src[r++];
+        }
+        entry *t = src;
+        src = dst;
+        dst = t;
+    }
+    if (src != a) memcpy(a, src, n * sizeof *a);
+}
+
+/* A recorded column of degree k: the simplex col plus the simplices
+ * vstore[v_off .. v_off + v_len) whose coboundaries were added to it. */
+typedef struct reducer {
+    uint32_t col;
+    uint32_t v_len;
+    size_t v_off;
+} reducer;
+
+/* A pair of positions: birth k-simplex, death (k+1)-simplex or
+ * NG_POS_NONE. */
+typedef struct pair {
+    uint32_t birth, death;
+} pair;
+
+typedef struct vec32 {
+    uint32_t *a;
+    size_t n, cap;
+} vec32;
+
+typedef struct work {
+    const ng_complex *c;
+    int j;
+    double T;
+    entry *heap;
+    size_t heap_n, heap_cap;
+    uint32_t *cof; /* max_degree + 1 */
+    vec32 vcur;    /* V of the column being reduced */
+    vec32 vstore;  /* V of the recorded columns */
+    reducer *red;
+    size_t red_n, red_cap;
+    pair *pairs[NG_COMPLEX_MAX_DIM];
+    size_t npairs[NG_COMPLEX_MAX_DIM], pairs_cap[NG_COMPLEX_MAX_DIM];
+} work;
+
+static int grow(void **a, size_t *cap, size_t need, size_t size)
+{
+    if (need <= *cap) return 1;
+    size_t nc = *cap ? *cap : 64;
+    while (nc < need) nc *= 2;
+    void *p = ng_realloc(*a, nc, size);
+    if (p == NULL) return 0;
+    *a = p;
+    *cap = nc;
+    return 1;
+}
+
+static int vec_push(vec32 *v, uint32_t x)
+{
+    if (!grow((void **)&v->a, &v->cap, v->n + 1, sizeof *v->a)) return 0;
+    v->a[v->n++] = x;
+    return 1;
+}
+
+static const double *values_of(const work *w, int k)
+{
+    return w->c->value[k] + (size_t)w->j * w->c->count[k];
+}
+
+static const ng_index *vertices_of(const work *w, int k, uint32_t pos)
+{
+    return w->c->vert[k] + (size_t)pos * (size_t)(k + 1);
+}
+
+/* Records the pair unless its bar has length zero. */
+static int add_pair(work *w, int k, uint32_t birth, uint32_t death)
+{
+    if (death != NG_POS_NONE &&
+        values_of(w, k)[birth] == values_of(w, k + 1)[death])
+        return 1;
+    if (!grow((void **)&w->pairs[k], &w->pairs_cap[k], w->npairs[k] + 1,
+              sizeof(pair)))
+        return 0;
+    w->pairs[k][w->npairs[k]++] = (pair){birth, death};
+    return 1;
+}
+
+/* ---- heap of cofacets, min by (value, pos) ---- */
+
+static int heap_push(work *w, entry e)
+{
+    if (!grow((void **)&w->heap, &w->heap_cap, w->heap_n + 1, sizeof e))
+        return 0;
+    size_t i = w->heap_n++;
+    while (i > 0) {
+        size_t parent = (i - 1) / 2;
+        if (!entry_less(e, w->heap[parent])) break;
+        w->heap[i] = w->heap[parent];
+        i = parent;
+    }
+    w->heap[i] = e;
+    return 1;
+}
+
+static entry heap_pop(work *w)
+{
+    entry top = w->heap[0], last = w->heap[--w->heap_n];
+    size_t i = 0, n = w->heap_n;
+    for (;;) {
+        size_t l = 2 * i + 1;
+        if (l >= n) break;
+        size_t m = l + 1 < n && entry_less(w->heap[l + 1], w->heap[l]) ? l + 1
+                                                                        : l;
+        if (!entry_less(w->heap[m], last)) break;
+        w->heap[i] = w->heap[m];
+        i = m;
+    }
+    if (n > 0) w->heap[i] = last;
+    return top;
+}
+
+/* Cancels equal entries at the top in pairs; leaves the pivot on top and
+ * returns 1, or returns 0 when the column is zero. */
+static int heap_pivot(work *w, entry *pivot)
+{
+    while (w->heap_n > 0) {
+        entry e = heap_pop(w);
+        if (w->heap_n > 0 && w->heap[0].pos == e.pos) {
+            (void)heap_pop(w);
+            continue;
+        }
+        *pivot = e;
+        return heap_push(w, e) ? 1 : -1;
+    }
+    return 0;
+}
+
+/* Cofacets of the k-simplex q within T, as entries in w->cof order; returns
+ * their number and writes the earliest to *first (when any). */
+static size_t cofacets_within(work *w, int k, uint32_t q, entry *first,
+                              entry *restrict out)
+{
+    const double *cv = values_of(w, k + 1);
+    size_t m = ng_complex_cofacets(w->c, k, vertices_of(w, k, q), w->cof);
+    size_t r = 0;
+    for (size_t i = 0; i < m; i++) {
+        double v = cv[w->cof[i]];
+        if (!(v <= w->T)) continue;
+        entry e = {v, w->cof[i]};
+        if (r == 0 || entry_less(e, *first)) *first = e;
+        out[r++] = e;
+    }
+    return r;
+}
+
+static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
+{
+    entry first;
+    size_t m = cofacets_within(w, k, q, &first, scratch);
+    for (size_t i = 0; i < m; i++)
+        if (!heap_push(w, scratch[i])) return 0;
+    return 1;
+}
+
+/* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau. */
+static int latest_facet(const work *w, int k, uint32_t tau, uint32_t p)
+{
+    const ng_index *tv = vertices_of(w, k + 1, tau);
+    const double *fv = values_of(w, k);
+    ng_index facet[NG_COMPLEX_MAX_DIM + 1];
+    entry best = {0, 0};
+    for (int skip = 0; skip <= k + 1; skip++) {
+        int r = 0;
+        for (int i = 0; i <= k + 1; i++)
+            if (i != skip) facet[r++] = tv[i];
+        uint32_t f = ng_complex_locate(w->c, k, facet);
+        entry e = {fv[f], f};
+        if (skip == 0 || entry_less(best, e)) best = e;
+    }
+    return best.pos == p;
+}
+
+static int cmp_u32(const void *a, const void *b)
+{
+    uint32_t x = *(const uint32_t *)a, y = *(const uint32_t *)b;
+    return (x > y) - (x < y);
+}
+
+/* Stores the current V (sorted, duplicates cancelled mod 2) as the reducer
+ * of column p; returns its index or −1 when out of memory. */
+static long store_reducer(work *w, uint32_t p)
+{
+    vec32 *v = &w->vcur;
+    qsort(v->a, v->n, sizeof *v->a, cmp_u32);
+    size_t m = 0;
+    for (size_t i = 0; i < v->n;) {
+        size_t r = i;
+        while (r < v->n && v->a[r] == v->a[i]) r++;
+        if ((r - i) % 2) v->a[m++] = v->a[i];
+        i = r;
+    }
+    if (!grow((void **)&w->red, &w->red_cap, w->red_n + 1, sizeof(reducer)) ||
+        !grow((void **)&w->vstore.a, &w->vstore.cap, w->vstore.n + m,
+              sizeof(uint32_t)))
+        return -1;
+    memcpy(w->vstore.a + w->vstore.n, v->a, m * sizeof *v->a);
+    w->red[w->red_n] = (reducer){p, (uint32_t)m, w->vstore.n};
+    w->vstore.n += m;
+    return (long)w->red_n++;
+}
+
+/* Reduces the column of the k-simplex p; owner[τ] is the reducer whose
+ * pivot is the (k+1)-simplex τ. Returns 1, or 0 when out of memory. */
+static int reduce_column(work *w, int k, uint32_t p, uint32_t *owner,
+                         entry *scratch)
+{
+    entry first;
+    size_t m = cofacets_within(w, k, p, &first, scratch);
+    if (m == 0) return add_pair(w, k, p, NG_POS_NONE);
+    if (owner[first.pos] == NG_POS_NONE && latest_facet(w, k, first.pos, p)) {
+        w->vcur.n = 0;
+        long r = store_reducer(w, p);
+        if (r < 0) return 0;
+        owner[first.pos] = (uint32_t)r;
+        return add_pair(w, k, p, first.pos);
+    }
+    w->heap_n = 0;
+    for (size_t i = 0; i < m; i++)
+        if (!heap_push(w, scratch[i])) return 0;
+    w->vcur.n = 0;
+    for (;;) {
+        entry piv;
+        int st = heap_pivot(w, &piv);
+        if (st < 0) return 0;
+        if (st == 0) return add_pair(w, k, p, NG_POS_NONE);
+        uint32_t o = owner[piv.pos];
+        if (o == NG_POS_NONE) {
+            long r = store_reducer(w, p);
+            if (r < 0) return 0;
+            owner[piv.pos] = (uint32_t)r;
+            return add_pair(w, k, p, piv.pos);
+        }
+        reducer R = w->red[o];
+        if (!push_coboundary(w, k, R.col, scratch) ||
+            !vec_push(&w->vcur, R.col))
+            return 0;
+        for (uint32_t i = 0; i < R.v_len; i++) {
+            uint32_t q = w->vstore.a[R.v_off + i];
+            if (!push_coboundary(w, k, q, scratch) || !vec_push(&w->vcur, q))
+                return 0;
+        }
+    }
+}
+
+/* Union–find root with path halving. */
+static uint32_t find_root(uint32_t *parent, uint32_t x)
+{
+    while (parent[x] != x) {
+        parent[x] = parent[parent[x]];
+        x = parent[x];
+    }
+    return x;
+}
+
+/* The k-simplices within T, not cleared, sorted by filtration order;
+ * *out is allocated (caller frees), its length returned in *len. */
+static int sorted_columns(const work *w, int k, const uint32_t *cleared,
+                          entry **out, size_t *len)
+{
+    const double *val = values_of(w, k);
+    size_t cnt = w->c->count[k], m = 0;
+    entry *a = ng_malloc(cnt, sizeof *a);
+    entry *tmp = NULL;
+    if (a == NULL) return 0;
+    for (size_t p = 0; p < cnt; p++)
+        if (val[p] <= w->T && (cleared == NULL || cleared[p] == NG_POS_NONE))
+            a[m++] = (entry){val[p], (uint32_t)p};
+    tmp = ng_malloc(m, sizeof *tmp);
+    if (tmp == NULL) {
+        ng_free(a);
+        return 0;
+    }
+    sort_entries(a, tmp, m);
+    ng_free(tmp);
+    *out = a;
+    *len = m;
+    return 1;
+}
+
+/* Degree 0 by union–find; marks the joining edges in killed (count[1]
+ * entries, NG_POS_NONE = not a pivot). */
+static int reduce_degree0(work *w, uint32_t *killed)
+{
+    const ng_complex *c = w->c;
+    const double *v0 = values_of(w, 0);
+    uint32_t *parent = ng_malloc(c->n, sizeof *parent);
+    entry *edges = NULL;
+    size_t ne = 0;
+    int ok = 0;
+    if (parent == NULL || !sorted_columns(w, 1, NULL, &edges, &ne))
+        goto cleanup;
+    for (size_t i = 0; i < c->n; i++) parent[i] = (uint32_t)i;
+    for (size_t e = 0; e < ne; e++) {
+        const ng_index *ev = vertices_of(w, 1, edges[e].pos);
+        uint32_t ra = find_root(parent, ev[0]), rb = find_root(parent, ev[1]);
+        if (ra == rb) continue;
+        entry ea = {v0[ra], ra}, eb = {v0[rb], rb};
+        uint32_t younger = entry_less(ea, eb) ? rb : ra;
+        uint32_t elder = younger == ra ? rb : ra;
+        parent[younger] = elder;
+        killed[edges[e].pos] = 0;
+        if (!add_pair(w, 0, younger, edges[e].pos)) goto cleanup;
+    }
+    for (size_t i = 0; i < c->n; i++)
+        if (v0[i] <= w->T && parent[i] == i &&
+            !add_pair(w, 0, (uint32_t)i, NG_POS_NONE))
+            goto cleanup;
+    ok = 1;
+cleanup:
+    ng_free(parent);
+    ng_free(edges);
+    return ok;
+}
+
+/* ---- bars ---- */
+
+typedef struct bar_record {
+    double birth, death;
+    int64_t bv[NG_COMPLEX_MAX_DIM + 1], dv[NG_COMPLEX_MAX_DIM + 1];
+} bar_record;
+
+static int cmp_bar(const void *pa, const void *pb)
+{
+    const bar_record *a = pa, *b = pb;
+    if (a->birth != b->birth) return a->birth < b->birth ? -1 : 1;
+    if (a->death != b->death) return a->death < b->death ? -1 : 1;
+    for (int i = 0; i <= NG_COMPLEX_MAX_DIM; i++)
+        if (a->bv[i] != b->bv[i]) return a->bv[i] < b->bv[i] ? -1 : 1;
+    for (int i = 0; i <= NG_COMPLEX_MAX_DIM; i++)
+        if (a->dv[i] != b->dv[i]) return a->dv[i] < b->dv[i] ? -1 : 1;
+    return 0;
+}
+
+static void bars_release(ng_bars *b)
+{
+    ng_free(b->interval);
+    ng_free(b->birth_vertices);
+    ng_free(b->death_vertices);
+    memset(b, 0, sizeof *b);
+}
+
+static int make_bars(const work *w, int k, ng_bars *out)
+{
+    size_t m = w->npairs[k];
+    bar_record *rec = ng_malloc(m, sizeof *rec);
+    out->degree = k;
+    out->count = m;
+    out->truncated = 0;
+    out->interval = ng_malloc(m, 2 * sizeof(double));
+    out->birth_vertices = ng_malloc(m, (size_t)(k + 1) * sizeof(int64_t));
+    out->death_vertices = ng_malloc(m, (size_t)(k + 2) * sizeof(int64_t));
+    if (rec == NULL || out->interval == NULL ||
+        out->birth_vertices == NULL || out->death_vertices == NULL) {
+        ng_free(rec);
+        bars_release(out);
+        return 0;
+    }
+    const double *bvals = values_of(w, k), *dvals = values_of(w, k + 1);
+    for (size_t i = 0; i < m; i++) {
+        pair pr = w->pairs[k][i];
+        bar_record *r = &rec[i];
+        memset(r, 0, sizeof *r);
+        r->birth = bvals[pr.birth];
+        const ng_index *bv = vertices_of(w, k, pr.birth);
+        for (int t = 0; t <= k; t++) r->bv[t] = bv[t];
+        if (pr.death == NG_POS_NONE) {
+            r->death = INFINITY;
+            for (int t = 0; t <= k + 1; t++) r->dv[t] = -1;
+        } else {
+            r->death = dvals[pr.death];
+            const ng_index *dv = vertices_of(w, k + 1, pr.death);
+            for (int t = 0; t <= k + 1; t++) r->dv[t] = dv[t];
+        }
+    }
+    qsort(rec, m, sizeof *rec, cmp_bar);
+    for (size_t i = 0; i < m; i++) {
+        out->interval[2 * i] = rec[i].birth;
+        out->interval[2 * i + 1] = rec[i].death;
+        if (isinf(rec[i].death) && rec[i].death > 0) out->truncated++;
+        for (int t = 0; t <= k; t++)
+            out->birth_vertices[i * (size_t)(k + 1) + (size_t)t] = rec[i].bv[t];
+        for (int t = 0; t <= k + 1; t++)
+            out->death_vertices[i * (size_t)(k + 2) + (size_t)t] = rec[i].dv[t];
+    }
+    ng_free(rec);
+    return 1;
+}
+
+static void work_release(work *w)
+{
+    ng_free(w->heap);
+    ng_free(w->cof);
+    ng_free(w->vcur.a);
+    ng_free(w->vstore.a);
+    ng_free(w->red);
+    for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) ng_free(w->pairs[k]);
+}
+
+/* Reduces filtration j into *d. Returns 1, or 0 when out of memory. */
+static int reduce_filtration(const ng_complex *c, int j, ng_diagram *d)
+{
+    int D = c->top_dim - 1, ok = 0;
+    work w;
+    memset(&w, 0, sizeof w);
+    w.c = c;
+    w.j = j;
+    w.T = c->scale_limit;
+    uint32_t *cleared = NULL, *owner = NULL;
+    entry *cols = NULL, *scratch = NULL;
+    w.cof = ng_malloc(c->max_degree + 1, sizeof *w.cof);
+    scratch = ng_malloc(c->max_degree + 1, sizeof *scratch);
+    cleared = ng_malloc(c->count[1], sizeof *cleared);
+    if (w.cof == NULL || scratch == NULL || cleared == NULL) goto cleanup;
+    for (size_t e = 0; e < c->count[1]; e++) cleared[e] = NG_POS_NONE;
+    if (!reduce_degree0(&w, cleared)) goto cleanup;
+    for (int k = 1; k <= D; k++) {
+        owner = ng_malloc(c->count[k + 1], sizeof *owner);
+        size_t ncols = 0;
+        if (owner == NULL || !sorted_columns(&w, k, cleared, &cols, &ncols))
+            goto cleanup;
+        for (size_t e = 0; e < c->count[k + 1]; e++) owner[e] = NG_POS_NONE;
+        w.red_n = 0;
+        w.vstore.n = 0;
+        for (size_t i = ncols; i-- > 0;)
+            if (!reduce_column(&w, k, cols[i].pos, owner, scratch))
+                goto cleanup;
+        ng_free(cols);
+        cols = NULL;
+        ng_free(cleared);
+        cleared = owner;
+        owner = NULL;
+    }
+    d->max_degree = D;
+    for (int k = 0; k <= D; k++)
+        if (!make_bars(&w, k, &d->bars[k])) goto cleanup;
+    for (int k = 0; k <= D + 1; k++)
+        d->simplices[k] = ng_complex_count_within(c, k, j);
+    ok = 1;
+cleanup:
+    work_release(&w);
+    ng_free(scratch);
+    ng_free(cleared);
+    ng_free(owner);
+    ng_free(cols);
+    return ok;
+}
+
+void ng_persistence_free(ng_persistence *p)
+{
+    if (p == NULL) return;
+    if (p->diagram)
+        for (int j = 0; j < p->n_filtrations; j++)
+            for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++)
+                bars_release(&p->diagram[j].bars[k]);
+    ng_free(p->diagram);
+    ng_free(p);
+}
+
+int ng_persistence_compute(const ng_complex *c, int threads,
+                           ng_persistence **out, ng_error *err)
+{
+    if (out) *out = NULL;
+    if (c == NULL || out == NULL)
+        return ng_error_set(err, NG_ERR_USAGE,
+                            "persistence: no complex or no output");
+    int L = c->n_filtrations;
+    ng_persistence *p = ng_calloc(1, sizeof *p);
+    if (p == NULL) goto nomem;
+    p->n_filtrations = L;
+    p->max_degree = c->top_dim - 1;
+    p->scale_limit = c->scale_limit;
+    for (int k = 0; k <= c->top_dim; k++) p->simplices[k] = c->count[k];
+    p->diagram = ng_calloc((size_t)L, sizeof *p->diagram);
+    if (p->diagram == NULL) goto nomem;
+    int nt = threads > 0 ? threads : omp_get_max_threads();
+    if (nt > L) nt = L;
+    int failed = 0;
+#pragma omp parallel for num_threads(nt) schedule(dynamic, 1) \
+    reduction(| : failed)
+    for (int j = 0; j < L; j++)
+        if (!reduce_filtration(c, j, &p->diagram[j])) failed = 1;
+    if (failed) goto nomem;
+    *out = p;
+    return NG_OK;
+nomem:
+    ng_persistence_free(p);
+    return ng_error_set(err, NG_ERR_NOMEM,
+                        "persistence: out of memory during the reduction");
+}
