@@ -5,8 +5,8 @@
  * is built here on a grid of cells of side 2T. The scale limit T of each
  * case is found by bisection on ng_complex_estimate so that the clique set
  * up to dimension D + 1 has about the target number of simplices. Every
- * case runs in a child process (so that peak_rss_kib is its own) with 1 and
- * 2 threads, and with one filtration (Rips) or two (Rips and the same
+ * case runs in a process of its own (so that peak_rss_kib is its own) with
+ * 1 and 2 threads, and with one filtration (Rips) or two (Rips and the same
  * complex with chebyshev edge values d_∞/2), which shows what a second
  * filtration costs. One line per run:
  *
@@ -25,9 +25,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/resource.h>
-#include <sys/wait.h>
 #include <time.h>
-#include <unistd.h>
 
 typedef struct cloud {
     size_t n;
@@ -171,8 +169,14 @@ static size_t simplices_at(const cloud *cl, int top, double T)
 
 static double find_scale(const cloud *cl, int top, double target)
 {
-    double lo = 0, hi = 0.5;
-    for (int it = 0; it < 20; it++) {
+    /* grow the scale by 10 % until past the target (never far past it,
+     * which would cost a huge graph), then bisect */
+    double lo = 0, hi = 0.2 * cbrt(1.0 / (double)cl->n);
+    while ((double)simplices_at(cl, top, hi) < target) {
+        lo = hi;
+        hi *= 1.1;
+    }
+    for (int it = 0; it < 12; it++) {
         double mid = (lo + hi) / 2;
         if ((double)simplices_at(cl, top, mid) < target)
             lo = mid;
@@ -182,21 +186,11 @@ static double find_scale(const cloud *cl, int top, double target)
     return (lo + hi) / 2;
 }
 
-static void run_case(cloud *cl, int D, double T, int L, int threads)
+static int run_case(cloud *cl, int D, double T, int L, int threads)
 {
-    pid_t pid = fork();
-    if (pid < 0) {
-        perror("fork");
-        exit(1);
-    }
-    if (pid > 0) {
-        int status;
-        waitpid(pid, &status, 0);
-        return;
-    }
     cl->L = L;
     ng_csr g;
-    if (grid_graph(cl, 2 * T, &g) != 0) _exit(1);
+    if (grid_graph(cl, 2 * T, &g) != 0) return 1;
     double *vv = calloc(cl->n * (size_t)L, sizeof *vv);
     ng_complex_spec spec = {&g, D + 1, L, vv, T, rips_values, cl, threads};
     ng_error err;
@@ -206,12 +200,12 @@ static void run_case(cloud *cl, int D, double T, int L, int threads)
     double t0 = now();
     if (ng_complex_build(&spec, &c, &err) != NG_OK) {
         fprintf(stderr, "bench_reduce: %s\n", err.message);
-        _exit(1);
+        return 1;
     }
     double t1 = now();
     if (ng_persistence_compute(c, threads, &p, &err) != NG_OK) {
         fprintf(stderr, "bench_reduce: %s\n", err.message);
-        _exit(1);
+        return 1;
     }
     double t2 = now();
     size_t total = 0, bars = 0;
@@ -225,12 +219,43 @@ static void run_case(cloud *cl, int D, double T, int L, int threads)
            "bars=%zu peak_rss_kib=%ld threads=%d\n",
            cl->n, D, T, L, total, t1 - t0, t2 - t1,
            (double)total / (t2 - t0), bars, ru.ru_maxrss, threads);
-    fflush(stdout);
-    _exit(0);
+    ng_persistence_free(p);
+    ng_complex_free(c);
+    graph_release(&g);
+    free(vv);
+    return 0;
 }
 
+static void make_cloud(cloud *cl, size_t n, uint64_t seed)
+{
+    cl->n = n;
+    cl->L = 1;
+    cl->x = malloc(n * 3 * sizeof *cl->x);
+    if (cl->x == NULL) exit(1);
+    rng_state = seed;
+    for (size_t i = 0; i < 3 * n; i++) cl->x[i] = rng_uniform();
+}
+
+/* Every run is its own process (GNU OpenMP does not survive fork, and
+ * peak_rss_kib must be the run's own): the driver re-executes itself as
+ *   bench_reduce scale N D TARGET SEED   (prints T)
+ *   bench_reduce run N D T L THREADS SEED (prints the line). */
 int main(int argc, char **argv)
 {
+    if (argc == 6 && strcmp(argv[1], "scale") == 0) {
+        cloud cl;
+        make_cloud(&cl, strtoull(argv[2], NULL, 10), strtoull(argv[5], NULL, 10));
+        printf("%.17g\n", find_scale(&cl, atoi(argv[3]) + 1, atof(argv[4])));
+        free(cl.x);
+        return 0;
+    }
+    if (argc == 8 && strcmp(argv[1], "run") == 0) {
+        cloud cl;
+        make_cloud(&cl, strtoull(argv[2], NULL, 10), strtoull(argv[7], NULL, 10));
+        int st = run_case(&cl, atoi(argv[3]), atof(argv[4]), atoi(argv[5]), atoi(argv[6]));
+        free(cl.x);
+        return st;
+    }
     const char *mode = argc > 1 ? argv[1] : "standard";
     double scale = strcmp(mode, "quick") == 0   ? 0.1
                    : strcmp(mode, "large") == 0 ? 5.0
@@ -244,14 +269,27 @@ int main(int argc, char **argv)
         {10000, 2, 2e6}, {100000, 1, 2e6}, {100000, 2, 2e6},
     };
     for (size_t ci = 0; ci < sizeof cases / sizeof cases[0]; ci++) {
-        cloud cl = {cases[ci].n, malloc(cases[ci].n * 3 * sizeof(double)), 1};
-        rng_state = 42 + ci;
-        for (size_t i = 0; i < 3 * cl.n; i++) cl.x[i] = rng_uniform();
-        double T = find_scale(&cl, cases[ci].D + 1, cases[ci].target * scale);
+        char cmd[4096];
+        unsigned seed = 42 + (unsigned)ci;
+        snprintf(cmd, sizeof cmd, "'%s' scale %zu %d %.6g %u", argv[0],
+                 cases[ci].n, cases[ci].D, cases[ci].target * scale, seed);
+        FILE *fp = popen(cmd, "r");
+        double T = 0;
+        if (fp == NULL || fscanf(fp, "%lf", &T) != 1) {
+            fprintf(stderr, "bench_reduce: cannot run %s\n", cmd);
+            return 1;
+        }
+        pclose(fp);
         for (int L = 1; L <= 2; L++)
-            for (int threads = 1; threads <= 2; threads++)
-                run_case(&cl, cases[ci].D, T, L, threads);
-        free(cl.x);
+            for (int threads = 1; threads <= 2; threads++) {
+                snprintf(cmd, sizeof cmd, "'%s' run %zu %d %.17g %d %d %u",
+                         argv[0], cases[ci].n, cases[ci].D, T, L, threads, seed);
+                fflush(stdout);
+                if (system(cmd) != 0) {
+                    fprintf(stderr, "bench_reduce: failed: %s\n", cmd);
+                    return 1;
+                }
+            }
     }
     return 0;
 }

@@ -355,19 +355,25 @@ int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
 
 /* ---- lookups and cofacets ---- */
 
-uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
+/* -1, 0 or 1 as the k-simplex s is before, equal to or after v in key
+ * order, given that their top vertices are equal. */
+static int compare_below_top(const ng_index *s, const ng_index *v, int k)
 {
-    if (k == 0) return v[0] < c->n ? v[0] : NG_POS_NONE;
-    if (v[k] >= c->n) return NG_POS_NONE;
+    for (int i = k - 1; i >= 0; i--)
+        if (s[i] != v[i]) return s[i] < v[i] ? -1 : 1;
+    return 0;
+}
+
+/* Binary search for the k-simplex v among positions [lo, hi) of its
+ * bucket. */
+static uint32_t search_bucket(const ng_complex *c, int k, const ng_index *v,
+                              size_t lo, size_t hi)
+{
     const ng_index *t = c->vert[k];
-    size_t lo = c->start[k][v[k]], hi = c->start[k][v[k] + 1];
     size_t stride = (size_t)k + 1;
     while (lo < hi) {
         size_t mid = lo + (hi - lo) / 2;
-        const ng_index *s = t + mid * stride;
-        int cmp = 0;
-        for (int i = k - 1; i >= 0 && cmp == 0; i--)
-            cmp = (s[i] > v[i]) - (s[i] < v[i]);
+        int cmp = compare_below_top(t + mid * stride, v, k);
         if (cmp == 0) return (uint32_t)mid;
         if (cmp < 0)
             lo = mid + 1;
@@ -375,6 +381,29 @@ uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
             hi = mid;
     }
     return NG_POS_NONE;
+}
+
+uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
+{
+    if (k == 0) return v[0] < c->n ? v[0] : NG_POS_NONE;
+    if (v[k] >= c->n) return NG_POS_NONE;
+    return search_bucket(c, k, v, c->start[k][v[k]], c->start[k][v[k] + 1]);
+}
+
+/* Galloping search for v in [lo, hi) of its bucket, where v is expected
+ * near lo. */
+static uint32_t gallop_bucket(const ng_complex *c, int k, const ng_index *v,
+                              size_t lo, size_t hi)
+{
+    const ng_index *t = c->vert[k];
+    size_t stride = (size_t)k + 1, step = 1, base = lo;
+    while (base + step < hi &&
+           compare_below_top(t + (base + step - 1) * stride, v, k) < 0) {
+        base += step;
+        step *= 2;
+    }
+    size_t end = base + step < hi ? base + step : hi;
+    return search_bucket(c, k, v, base, end);
 }
 
 size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
@@ -393,6 +422,7 @@ size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
     }
     ng_index tup[NG_COMPLEX_MAX_DIM + 1];
     size_t m = 0;
+    size_t below = c->start[k + 1][v[k]], below_end = c->start[k + 1][v[k] + 1];
     for (size_t e = ptr[a]; e < end[a]; e++) {
         ng_index w = c->nbr[e];
         int common = 1;
@@ -407,7 +437,17 @@ size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
         while (s <= k && v[s] < w) tup[r++] = v[s++];
         tup[r++] = w;
         while (s <= k) tup[r++] = v[s++];
-        uint32_t pos = ng_complex_locate(c, k + 1, tup);
+        /* Below the top vertex v[k], the cofacets share the bucket of
+         * v[k] and their keys grow with w (colex order: the larger of two
+         * sets differing in one element is the one holding the larger
+         * element), so each search starts where the last one ended. */
+        uint32_t pos;
+        if (w < v[k]) {
+            pos = gallop_bucket(c, k + 1, tup, below, below_end);
+            if (pos != NG_POS_NONE) below = (size_t)pos + 1;
+        } else {
+            pos = ng_complex_locate(c, k + 1, tup);
+        }
         if (pos != NG_POS_NONE) out[m++] = pos;
     }
     return m;

@@ -249,22 +249,24 @@ static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
     return 1;
 }
 
-/* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau. */
+/* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau:
+ * stops at the first facet later than p. */
 static int latest_facet(const work *w, int k, uint32_t tau, uint32_t p)
 {
     const ng_index *tv = vertices_of(w, k + 1, tau);
     const double *fv = values_of(w, k);
+    entry ep = {fv[p], p};
     ng_index facet[NG_COMPLEX_MAX_DIM + 1];
-    entry best = {0, 0};
     for (int skip = 0; skip <= k + 1; skip++) {
         int r = 0;
         for (int i = 0; i <= k + 1; i++)
             if (i != skip) facet[r++] = tv[i];
         uint32_t f = ng_complex_locate(w->c, k, facet);
+        if (f == p) continue;
         entry e = {fv[f], f};
-        if (skip == 0 || entry_less(best, e)) best = e;
+        if (entry_less(ep, e)) return 0;
     }
-    return best.pos == p;
+    return 1;
 }
 
 static int cmp_u32(const void *a, const void *b)
@@ -278,7 +280,7 @@ static int cmp_u32(const void *a, const void *b)
 static long store_reducer(work *w, uint32_t p)
 {
     vec32 *v = &w->vcur;
-    qsort(v->a, v->n, sizeof *v->a, cmp_u32);
+    if (v->n > 1) qsort(v->a, v->n, sizeof *v->a, cmp_u32);
     size_t m = 0;
     for (size_t i = 0; i < v->n;) {
         size_t r = i;
@@ -290,7 +292,7 @@ static long store_reducer(work *w, uint32_t p)
         !grow((void **)&w->vstore.a, &w->vstore.cap, w->vstore.n + m,
               sizeof(uint32_t)))
         return -1;
-    memcpy(w->vstore.a + w->vstore.n, v->a, m * sizeof *v->a);
+    if (m > 0) memcpy(w->vstore.a + w->vstore.n, v->a, m * sizeof *v->a);
     w->red[w->red_n] = (reducer){p, (uint32_t)m, w->vstore.n};
     w->vstore.n += m;
     return (long)w->red_n++;

@@ -59,7 +59,7 @@ int ng_results_open(const char *path, ng_results_file **out, ng_error *err)
         ng_free(f->final_path);
         ng_free(f->temp_path);
         ng_free(f);
-        return ng_error_set(err, NG_ERR_IO,
+        return ng_error_set(err, NG_ERR_USAGE,
                             "-o %s: cannot create the output file there: %s",
                             path, strerror(e));
     }

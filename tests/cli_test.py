@@ -107,5 +107,27 @@ with tempfile.TemporaryDirectory() as tmp:
         expect("values: Čech = Rips on an edge", rows[1][0] == rows[1][1], rows[1])
         expect("values: Rips ≤ Čech", float(rows[2][0]) <= float(rows[2][1]), rows[2])
 
+# run: the output path is checked before any computation; a scale limit
+# that does not fit the budget fails with the size and a scale that fits
+with tempfile.TemporaryDirectory() as tmp:
+    expect_error("run unwritable output", ["run", good, "--quiet", "-o",
+                 os.path.join(tmp, "no", "such", "dir", "out.h5")], 2, "cannot create")
+    expect_error("run without -o", ["run", good], 2, "-o OUT.h5 is required")
+    expect_error("run bad max-degree", ["run", good, "-o", os.path.join(tmp, "x.h5"),
+                 "--max-degree", "7"], 2, "--max-degree")
+    expect_error("run bad slices", ["run", good, "-o", os.path.join(tmp, "x.h5"),
+                 "--slices", "factor:0.5"], 2, "--slices")
+    expect_error("run bad budget", ["run", good, "-o", os.path.join(tmp, "x.h5"),
+                 "--budget", "lots"], 2, "--budget")
+    out = os.path.join(tmp, "big.h5")
+    expect_error("run over budget", ["run", good, "--quiet", "-o", out, "--radius", "knn:3",
+                 "--scale-limit", "1e6", "--max-degree", "3", "--budget", "64K"], 1,
+                 "would fit")
+    expect("run over budget leaves no file", not os.path.exists(out))
+    expect("run leaves no temporary file", os.listdir(tmp) == [], os.listdir(tmp))
+    rc, _, err = run("run", good, "-o", out, "--radius", "knn:3", "--budget", "300K")
+    expect("run auto under a small budget", rc == 0 and "chosen to fit the memory budget" in err, err)
+    expect("run wrote the file", os.path.exists(out))
+
 print(f"{checks - failures} passed, {failures} failed")
 sys.exit(1 if failures else 0)

@@ -51,8 +51,8 @@ typedef struct ng_run_record {
 typedef struct ng_results_file ng_results_file;
 
 /* Creates the temporary file beside path. On success *out owns it: finish
- * with ng_results_commit, or ng_results_abort to remove it. NG_ERR_IO
- * naming the path when it cannot be created. */
+ * with ng_results_commit, or ng_results_abort to remove it. NG_ERR_USAGE
+ * (exit code 2: a bad -o) naming the path when it cannot be created. */
 NG_API int ng_results_open(const char *path, ng_results_file **out,
                            ng_error *err);
 
