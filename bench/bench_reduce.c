@@ -11,8 +11,11 @@
  * filtration costs. One line per run:
  *
  *   bench=reduce n=… D=… T=… filtrations=… simplices=… seconds_build=…
- *   seconds_reduce=… simplices_per_s=… bars=… peak_rss_kib=… threads=…
+ *   seconds_reduce=… simplices_per_s=… bars=… estimate_kib=… peak_rss_kib=…
+ *   threads=…
  *
+ * estimate_kib: what ng_complex_estimate predicts (build + L reductions;
+ * the graph and the cloud of the benchmark itself are not in it).
  * seconds_build: clique enumeration + one value callback per simplex;
  * seconds_reduce: ng_persistence_compute; simplices_per_s: simplices /
  * (build + reduce). Usage: bench_reduce [quick|standard|large].
@@ -197,6 +200,11 @@ static int run_case(cloud *cl, int D, double T, int L, int threads)
     ng_error_clear(&err);
     ng_complex *c = NULL;
     ng_persistence *p = NULL;
+    ng_complex_size est;
+    if (ng_complex_estimate(&g, D + 1, L, threads, &est, &err) != NG_OK) {
+        fprintf(stderr, "bench_reduce: %s\n", err.message);
+        return 1;
+    }
     double t0 = now();
     if (ng_complex_build(&spec, &c, &err) != NG_OK) {
         fprintf(stderr, "bench_reduce: %s\n", err.message);
@@ -216,9 +224,11 @@ static int run_case(cloud *cl, int D, double T, int L, int threads)
     getrusage(RUSAGE_SELF, &ru);
     printf("bench=reduce n=%zu D=%d T=%.5g filtrations=%d simplices=%zu "
            "seconds_build=%.3f seconds_reduce=%.3f simplices_per_s=%.3e "
-           "bars=%zu peak_rss_kib=%ld threads=%d\n",
+           "bars=%zu estimate_kib=%zu peak_rss_kib=%ld threads=%d\n",
            cl->n, D, T, L, total, t1 - t0, t2 - t1,
-           (double)total / (t2 - t0), bars, ru.ru_maxrss, threads);
+           (double)total / (t2 - t0), bars,
+           (est.bytes_build + (size_t)L * est.bytes_reduce) / 1024, ru.ru_maxrss,
+           threads);
     ng_persistence_free(p);
     ng_complex_free(c);
     graph_release(&g);

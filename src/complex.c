@@ -307,11 +307,13 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
                             (size_t)n_filtrations * sizeof(double)) +
              (n + 1) * sizeof(size_t);
     s->bytes_build = b;
-    /* degree k: sorted columns (16 B), cleared marks of k (4 B), pivots of
-     * k + 1 (4 B), reducer records (16 B per column) */
-    size_t r = n * sizeof(uint32_t) + s->count[1] * 24;
+    /* degree 0: union-find (4 B a vertex), sorted edges and their sort
+     * buffer (32 B), joining marks (4 B); degree k: sorted columns and sort
+     * buffer (32 B), cleared marks (4 B) and reducer records (16 B) per
+     * k-simplex, pivots (4 B) per (k+1)-simplex */
+    size_t r = n * sizeof(uint32_t) + s->count[1] * 36 + 65536 * 8;
     for (int k = 1; k < top_dim; k++) {
-        size_t rk = s->count[k] * 36 + s->count[k + 1] * 4;
+        size_t rk = s->count[k] * 52 + s->count[k + 1] * 4 + 65536 * 8;
         if (rk > r) r = rk;
     }
     s->bytes_reduce = r;
@@ -644,7 +646,7 @@ int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
             const double *val = c->value[k] + (size_t)j * c->count[k];
             size_t m = 0;
             for (size_t p = 0; p < c->count[k]; p++)
-                m += val[p] <= c->scale_limit;
+                m += in_filtration(val[p], c->scale_limit);
             c->within[(size_t)j * (size_t)(top + 1) + (size_t)k] = m;
         }
     *out = c;

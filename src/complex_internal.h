@@ -13,6 +13,7 @@
 
 #include "nervegap/complex.h"
 
+#include <math.h>
 #include <stdint.h>
 
 #define NG_POS_NONE UINT32_MAX
@@ -31,6 +32,13 @@ struct ng_complex {
     double *value[NG_COMPLEX_MAX_DIM + 1];
     size_t *within; /* n_filtrations × (top_dim + 1): value_j ≤ T counts */
 };
+
+/* A simplex of value x is in a filtration cut at T when x ≤ T and x is not
+ * +inf (+inf means "never", even when T = +inf). */
+static inline int in_filtration(double x, double T)
+{
+    return x <= T && x < (double)INFINITY;
+}
 
 /* Position of the k-simplex with increasing vertices v[0..k], or
  * NG_POS_NONE. */

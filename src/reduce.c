@@ -1,9 +1,11 @@
 /* reduce.c — persistence barcodes of the filtrations of a complex by mod-2
  * reduction (persistence.h).
  *
- * Invariants: each filtration is reduced by one thread, sequentially, in a
- * fixed order; filtrations only read the shared complex. So the output is
- * the same for any number of threads. The total order of a filtration is
+ * Invariants: filtrations only read the shared complex; within one
+ * filtration the only parallel step is the apparent-pair pass, whose
+ * outcome per column does not depend on any other column, and every step
+ * that does (the heap reductions, union–find) runs in one thread in a fixed
+ * order. So the output is the same for any number of threads. The total order of a filtration is
  * (value, dimension, key); two simplices of one dimension compare by
  * (value, table position), since the tables are in key order.
  *
@@ -48,7 +50,16 @@
  *   pivot. Before building a heap, a column checks for an apparent pair:
  *   if its earliest cofacet τ has σ as its LATEST facet, no later column
  *   can contain τ, so τ is free and (σ, τ) is a pair with no additions; the
- *   column is then recorded with an empty V.
+ *   column is then recorded with an empty V. Whether a column is apparent
+ *   depends on the filtration only, so all columns of a degree are first
+ *   tested in parallel; the remaining ones are then reduced one by one,
+ *   latest first — no column of a later simplex ever meets the pivot τ of
+ *   an apparent pair, which makes the result the same as one sequential
+ *   sweep.
+ *
+ *   Threads: with at least as many filtrations as threads, each thread
+ *   reduces whole filtrations; with fewer, the filtrations are reduced one
+ *   after the other with all threads in their apparent-pair passes.
  *
  *   The scale limit T cuts every filtration: simplices with value > T are
  *   not in it, so a class alive at T gets death +inf (a truncated bar).
@@ -75,25 +86,39 @@ static int entry_less(entry a, entry b)
     return a.value < b.value || (a.value == b.value && a.pos < b.pos);
 }
 
-/* Bottom-up merge sort by (value, pos); tmp has room for n entries. */
-static void sort_entries(entry *a, entry *tmp, size_t n)
+/* An unsigned key with the order of the double x (−0 taken as +0, as the
+ * comparison x < y does; no NaN). */
+static uint64_t order_key(double x)
+{
+    uint64_t b;
+    if (x == 0) x = 0.0;
+    memcpy(&b, &x, sizeof b);
+    return b >> 63 ? ~b : b | ((uint64_t)1 << 63);
+}
+
+/* Sorts a[0..n) by (value, pos), given that a is in increasing pos order:
+ * a stable least-significant-digit radix sort on the value's order key,
+ * 16 bits per pass; tmp has room for n entries, count for 65536. */
+static void sort_entries(entry *a, entry *tmp, size_t n, size_t *count)
 {
     entry *src = a, *dst = tmp;
-    for (size_t width = 1; width < n; width *= 2) {
-        for (size_t lo = 0; lo < n; lo += 2 * width) {
-            size_t mid = lo + width < n ? lo + width : n;
-            size_t hi = lo + 2 * width < n ? lo + 2 * width : n;
-            size_t i = lo, r = mid, o = lo;
-            while (i < mid && r < hi)
-                dst[o++] = entry_less(src[r], src[i]) ? src[r++] : src[i++];
-            while (i < mid) dst[o++] = src[i++];
-            while (r < hi) dst[o++] = src[r++];
+    for (int shift = 0; shift < 64; shift += 16) {
+        memset(count, 0, 65536 * sizeof *count);
+        for (size_t i = 0; i < n; i++)
+            count[(order_key(src[i].value) >> shift) & 0xFFFF]++;
+        size_t sum = 0;
+        for (size_t d = 0; d < 65536; d++) {
+            size_t c = count[d];
+            count[d] = sum;
+            sum += c;
         }
+        for (size_t i = 0; i < n; i++)
+            dst[count[(order_key(src[i].value) >> shift) & 0xFFFF]++] = src[i];
         entry *t = src;
         src = dst;
         dst = t;
     }
-    if (src != a) memcpy(a, src, n * sizeof *a);
+    /* four passes: the result is back in a */
 }
 
 /* A recorded column of degree k: the simplex col plus the simplices
@@ -125,7 +150,6 @@ typedef struct work {
     vec32 vcur;    /* V of the column being reduced */
     vec32 vstore;  /* V of the recorded columns */
     reducer *red;
-    size_t red_n, red_cap;
     pair *pairs[NG_COMPLEX_MAX_DIM];
     size_t npairs[NG_COMPLEX_MAX_DIM], pairs_cap[NG_COMPLEX_MAX_DIM];
 } work;
@@ -224,16 +248,17 @@ static int heap_pivot(work *w, entry *pivot)
 
 /* Cofacets of the k-simplex q within T, as entries in w->cof order; returns
  * their number and writes the earliest to *first (when any). */
-static size_t cofacets_within(work *w, int k, uint32_t q, entry *first,
-                              entry *restrict out)
+static size_t cofacets_within(const work *w, int k, uint32_t q,
+                              entry *first, entry *restrict out,
+                              uint32_t *restrict cof)
 {
     const double *cv = values_of(w, k + 1);
-    size_t m = ng_complex_cofacets(w->c, k, vertices_of(w, k, q), w->cof);
+    size_t m = ng_complex_cofacets(w->c, k, vertices_of(w, k, q), cof);
     size_t r = 0;
     for (size_t i = 0; i < m; i++) {
-        double v = cv[w->cof[i]];
-        if (!(v <= w->T)) continue;
-        entry e = {v, w->cof[i]};
+        double v = cv[cof[i]];
+        if (!in_filtration(v, w->T)) continue;
+        entry e = {v, cof[i]};
         if (r == 0 || entry_less(e, *first)) *first = e;
         out[r++] = e;
     }
@@ -243,7 +268,7 @@ static size_t cofacets_within(work *w, int k, uint32_t q, entry *first,
 static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
 {
     entry first;
-    size_t m = cofacets_within(w, k, q, &first, scratch);
+    size_t m = cofacets_within(w, k, q, &first, scratch, w->cof);
     for (size_t i = 0; i < m; i++)
         if (!heap_push(w, scratch[i])) return 0;
     return 1;
@@ -275,9 +300,9 @@ static int cmp_u32(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* Stores the current V (sorted, duplicates cancelled mod 2) as the reducer
- * of column p; returns its index or −1 when out of memory. */
-static long store_reducer(work *w, uint32_t p)
+/* Stores the current V (sorted, duplicates cancelled mod 2) as reducer
+ * slot, of column p. Returns 1, or 0 when out of memory. */
+static int store_reducer(work *w, size_t slot, uint32_t p)
 {
     vec32 *v = &w->vcur;
     if (v->n > 1) qsort(v->a, v->n, sizeof *v->a, cmp_u32);
@@ -288,57 +313,102 @@ static long store_reducer(work *w, uint32_t p)
         if ((r - i) % 2) v->a[m++] = v->a[i];
         i = r;
     }
-    if (!grow((void **)&w->red, &w->red_cap, w->red_n + 1, sizeof(reducer)) ||
-        !grow((void **)&w->vstore.a, &w->vstore.cap, w->vstore.n + m,
+    if (!grow((void **)&w->vstore.a, &w->vstore.cap, w->vstore.n + m,
               sizeof(uint32_t)))
-        return -1;
+        return 0;
     if (m > 0) memcpy(w->vstore.a + w->vstore.n, v->a, m * sizeof *v->a);
-    w->red[w->red_n] = (reducer){p, (uint32_t)m, w->vstore.n};
+    w->red[slot] = (reducer){p, (uint32_t)m, w->vstore.n};
     w->vstore.n += m;
-    return (long)w->red_n++;
+    return 1;
 }
 
-/* Reduces the column of the k-simplex p; owner[τ] is the reducer whose
- * pivot is the (k+1)-simplex τ. Returns 1, or 0 when out of memory. */
-static int reduce_column(work *w, int k, uint32_t p, uint32_t *owner,
-                         entry *scratch)
+/* Column i (the k-simplex p) after the apparent-pair pass: reduces it
+ * with the heap; owner[τ] is the index of the reducer whose pivot is the
+ * (k+1)-simplex τ. Writes its pivot (or NG_POS_NONE) to *death. Returns 1,
+ * or 0 when out of memory. */
+static int reduce_column(work *w, int k, size_t i, uint32_t p,
+                         uint32_t *owner, entry *scratch, uint32_t *death)
 {
     entry first;
-    size_t m = cofacets_within(w, k, p, &first, scratch);
-    if (m == 0) return add_pair(w, k, p, NG_POS_NONE);
-    if (owner[first.pos] == NG_POS_NONE && latest_facet(w, k, first.pos, p)) {
-        w->vcur.n = 0;
-        long r = store_reducer(w, p);
-        if (r < 0) return 0;
-        owner[first.pos] = (uint32_t)r;
-        return add_pair(w, k, p, first.pos);
-    }
+    size_t m = cofacets_within(w, k, p, &first, scratch, w->cof);
     w->heap_n = 0;
-    for (size_t i = 0; i < m; i++)
-        if (!heap_push(w, scratch[i])) return 0;
+    for (size_t r = 0; r < m; r++)
+        if (!heap_push(w, scratch[r])) return 0;
     w->vcur.n = 0;
     for (;;) {
         entry piv;
         int st = heap_pivot(w, &piv);
         if (st < 0) return 0;
-        if (st == 0) return add_pair(w, k, p, NG_POS_NONE);
+        if (st == 0) {
+            *death = NG_POS_NONE;
+            return 1;
+        }
         uint32_t o = owner[piv.pos];
         if (o == NG_POS_NONE) {
-            long r = store_reducer(w, p);
-            if (r < 0) return 0;
-            owner[piv.pos] = (uint32_t)r;
-            return add_pair(w, k, p, piv.pos);
+            if (!store_reducer(w, i, p)) return 0;
+            owner[piv.pos] = (uint32_t)i;
+            *death = piv.pos;
+            return 1;
         }
         reducer R = w->red[o];
         if (!push_coboundary(w, k, R.col, scratch) ||
             !vec_push(&w->vcur, R.col))
             return 0;
-        for (uint32_t i = 0; i < R.v_len; i++) {
-            uint32_t q = w->vstore.a[R.v_off + i];
+        for (uint32_t r = 0; r < R.v_len; r++) {
+            uint32_t q = w->vstore.a[R.v_off + r];
             if (!push_coboundary(w, k, q, scratch) || !vec_push(&w->vcur, q))
                 return 0;
         }
     }
+}
+
+/* Marks a column that the apparent-pair pass left to the heap. Positions
+ * are below UINT32_MAX − 1 (complex_internal.h), so this is no position. */
+#define PENDING (UINT32_MAX - 1u)
+
+/* The apparent-pair pass over the columns cols[0..ncols) of degree k, in
+ * parallel (inner threads): a column without cofacets is a class that
+ * never dies; a column whose earliest cofacet τ has it as latest facet is
+ * the pair (σ, τ); every other column is PENDING. The outcome of a column
+ * depends on the filtration alone, and τ has one latest facet, so the
+ * threads never write the same owner entry: the result does not depend on
+ * the schedule. Returns 1, or 0 when out of memory. */
+static int apparent_pass(work *w, int k, const entry *cols, size_t ncols,
+                         uint32_t *owner, uint32_t *death, int inner)
+{
+    size_t slot = w->c->max_degree + 1;
+    entry *scratch = ng_malloc((size_t)inner * slot, sizeof *scratch);
+    uint32_t *cof = ng_malloc((size_t)inner * slot, sizeof *cof);
+    if (scratch == NULL || cof == NULL) {
+        ng_free(scratch);
+        ng_free(cof);
+        return 0;
+    }
+    long long total = (long long)ncols;
+#pragma omp parallel num_threads(inner)
+    {
+        int t = omp_get_thread_num();
+        entry *sc = scratch + (size_t)t * slot;
+        uint32_t *cf = cof + (size_t)t * slot;
+#pragma omp for schedule(dynamic, 512)
+        for (long long i = 0; i < total; i++) {
+            uint32_t p = cols[i].pos;
+            entry first;
+            size_t m = cofacets_within(w, k, p, &first, sc, cf);
+            if (m == 0) {
+                death[i] = NG_POS_NONE;
+            } else if (latest_facet(w, k, first.pos, p)) {
+                death[i] = first.pos;
+                w->red[i] = (reducer){p, 0, 0};
+                owner[first.pos] = (uint32_t)i;
+            } else {
+                death[i] = PENDING;
+            }
+        }
+    }
+    ng_free(scratch);
+    ng_free(cof);
+    return 1;
 }
 
 /* Union–find root with path halving. */
@@ -362,15 +432,20 @@ static int sorted_columns(const work *w, int k, const uint32_t *cleared,
     entry *tmp = NULL;
     if (a == NULL) return 0;
     for (size_t p = 0; p < cnt; p++)
-        if (val[p] <= w->T && (cleared == NULL || cleared[p] == NG_POS_NONE))
+        if (in_filtration(val[p], w->T) &&
+            (cleared == NULL || cleared[p] == NG_POS_NONE))
             a[m++] = (entry){val[p], (uint32_t)p};
     tmp = ng_malloc(m, sizeof *tmp);
-    if (tmp == NULL) {
+    size_t *count = ng_malloc(65536, sizeof *count);
+    if (tmp == NULL || count == NULL) {
         ng_free(a);
+        ng_free(tmp);
+        ng_free(count);
         return 0;
     }
-    sort_entries(a, tmp, m);
+    sort_entries(a, tmp, m, count);
     ng_free(tmp);
+    ng_free(count);
     *out = a;
     *len = m;
     return 1;
@@ -401,7 +476,7 @@ static int reduce_degree0(work *w, uint32_t *killed)
         if (!add_pair(w, 0, younger, edges[e].pos)) goto cleanup;
     }
     for (size_t i = 0; i < c->n; i++)
-        if (v0[i] <= w->T && parent[i] == i &&
+        if (in_filtration(v0[i], w->T) && parent[i] == i &&
             !add_pair(w, 0, (uint32_t)i, NG_POS_NONE))
             goto cleanup;
     ok = 1;
@@ -496,7 +571,8 @@ static void work_release(work *w)
 }
 
 /* Reduces filtration j into *d. Returns 1, or 0 when out of memory. */
-static int reduce_filtration(const ng_complex *c, int j, ng_diagram *d)
+static int reduce_filtration(const ng_complex *c, int j, int inner,
+                             ng_diagram *d)
 {
     int D = c->top_dim - 1, ok = 0;
     work w;
@@ -504,7 +580,7 @@ static int reduce_filtration(const ng_complex *c, int j, ng_diagram *d)
     w.c = c;
     w.j = j;
     w.T = c->scale_limit;
-    uint32_t *cleared = NULL, *owner = NULL;
+    uint32_t *cleared = NULL, *owner = NULL, *death = NULL;
     entry *cols = NULL, *scratch = NULL;
     w.cof = ng_malloc(c->max_degree + 1, sizeof *w.cof);
     scratch = ng_malloc(c->max_degree + 1, sizeof *scratch);
@@ -518,11 +594,26 @@ static int reduce_filtration(const ng_complex *c, int j, ng_diagram *d)
         if (owner == NULL || !sorted_columns(&w, k, cleared, &cols, &ncols))
             goto cleanup;
         for (size_t e = 0; e < c->count[k + 1]; e++) owner[e] = NG_POS_NONE;
-        w.red_n = 0;
+        ng_free(w.red);
+        w.red = ng_malloc(ncols, sizeof *w.red);
+        death = ng_malloc(ncols, sizeof *death);
+        if (w.red == NULL || death == NULL ||
+            !apparent_pass(&w, k, cols, ncols, owner, death, inner))
+            goto cleanup;
+        /* the other columns, latest simplex first: they never meet the
+         * pivot of an apparent pair of an earlier column (that cofacet's
+         * latest facet is the earlier simplex), so doing the apparent pairs
+         * first changes nothing */
         w.vstore.n = 0;
         for (size_t i = ncols; i-- > 0;)
-            if (!reduce_column(&w, k, cols[i].pos, owner, scratch))
+            if (death[i] == PENDING &&
+                !reduce_column(&w, k, i, cols[i].pos, owner, scratch,
+                               &death[i]))
                 goto cleanup;
+        for (size_t i = 0; i < ncols; i++)
+            if (!add_pair(&w, k, cols[i].pos, death[i])) goto cleanup;
+        ng_free(death);
+        death = NULL;
         ng_free(cols);
         cols = NULL;
         ng_free(cleared);
@@ -540,6 +631,7 @@ cleanup:
     ng_free(scratch);
     ng_free(cleared);
     ng_free(owner);
+    ng_free(death);
     ng_free(cols);
     return ok;
 }
@@ -571,13 +663,20 @@ int ng_persistence_compute(const ng_complex *c, int threads,
     for (int k = 0; k <= c->top_dim; k++) p->simplices[k] = c->count[k];
     p->diagram = ng_calloc((size_t)L, sizeof *p->diagram);
     if (p->diagram == NULL) goto nomem;
+    /* Fewer filtrations than threads: one filtration after the other, all
+     * threads inside each (the apparent-pair pass); otherwise one thread
+     * per filtration. */
     int nt = threads > 0 ? threads : omp_get_max_threads();
-    if (nt > L) nt = L;
     int failed = 0;
+    if (L < nt) {
+        for (int j = 0; j < L && !failed; j++)
+            if (!reduce_filtration(c, j, nt, &p->diagram[j])) failed = 1;
+    } else {
 #pragma omp parallel for num_threads(nt) schedule(dynamic, 1) \
     reduction(| : failed)
-    for (int j = 0; j < L; j++)
-        if (!reduce_filtration(c, j, &p->diagram[j])) failed = 1;
+        for (int j = 0; j < L; j++)
+            if (!reduce_filtration(c, j, 1, &p->diagram[j])) failed = 1;
+    }
     if (failed) goto nomem;
     *out = p;
     return NG_OK;

@@ -180,6 +180,53 @@ static int write_diagram(hid_t loc, const ng_diagram *d)
     return 0;
 }
 
+static int write_grid(hid_t file, const ng_grid *g)
+{
+    hid_t grp = group_create(file, "grid");
+    if (grp < 0) return -1;
+    int r = 0;
+    hsize_t G = g->G, w0 = (hsize_t)g->max_degree + 1, w1 = w0 + 1;
+    hsize_t d1[1] = {G}, d2[2] = {G, w0}, d3[2] = {G, w1};
+    r |= write_doubles(grp, "scale", 1, d1, g->scale);
+    r |= write_int64s(grp, "betti_cech", 2, d2, g->betti_cech);
+    r |= write_int64s(grp, "betti_rips", 2, d2, g->betti_rips);
+    r |= write_int64s(grp, "simplices_cech", 2, d3, g->simplices_cech);
+    r |= write_int64s(grp, "simplices_rips", 2, d3, g->simplices_rips);
+    r |= write_doubles(grp, "factor_max", 1, d1, g->factor_max);
+    r |= write_doubles(grp, "factor_q50", 1, d1, g->factor_q50);
+    r |= write_doubles(grp, "factor_q90", 1, d1, g->factor_q90);
+    r |= write_doubles(grp, "shift_max", 1, d1, g->shift_max);
+    r |= write_doubles(grp, "shift_q50", 1, d1, g->shift_q50);
+    r |= write_doubles(grp, "shift_q90", 1, d1, g->shift_q90);
+    if (g->n_slices > 0) {
+        hsize_t dh[3] = {(hsize_t)g->n_slices, G, w0};
+        r |= write_int64s(grp, "hilbert", 3, dh, g->hilbert);
+    }
+    H5Gclose(grp);
+    return r ? -1 : 0;
+}
+
+static int write_divergence(hid_t file, const ng_run_record *rec)
+{
+    hid_t grp = group_create(file, "divergence");
+    if (grp < 0) return -1;
+    int r = 0;
+    hsize_t n = (hsize_t)rec->max_degree + 1;
+    r |= write_doubles(grp, "bottleneck", 1, &n, rec->bottleneck);
+    r |= write_doubles(grp, "wasserstein1", 1, &n, rec->wasserstein1);
+    r |= write_doubles(grp, "wasserstein2", 1, &n, rec->wasserstein2);
+    if (rec->grid) {
+        r |= attr_double(grp, "factor_bound", rec->grid->factor_bound);
+        r |= attr_double(grp, "shift_bound", rec->grid->shift_bound);
+        r |= attr_double(grp, "factor_bound_at", rec->grid->factor_bound_at);
+        r |= attr_double(grp, "shift_bound_at", rec->grid->shift_bound_at);
+    }
+    r |= attr_double(grp, "wasserstein_relative_error",
+                     rec->wasserstein_relative_error);
+    H5Gclose(grp);
+    return r ? -1 : 0;
+}
+
 static int write_all(hid_t file, const ng_run_record *rec,
                      const ng_persistence *p)
 {
@@ -252,6 +299,8 @@ static int write_all(hid_t file, const ng_run_record *rec,
         H5Gclose(g);
         if (r) return -1;
     }
+    if (rec->grid && write_grid(file, rec->grid) != 0) return -1;
+    if (rec->bottleneck && write_divergence(file, rec) != 0) return -1;
     return 0;
 }
 

@@ -29,6 +29,7 @@ void ng_run_options_init(ng_run_options *opt)
     opt->max_degree = 1;
     opt->scale_auto = 1;
     opt->budget_bytes = DEFAULT_BUDGET;
+    opt->grid = 128;
 #if defined(_SC_PHYS_PAGES) && defined(_SC_PAGESIZE)
     long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGESIZE);
     if (pages > 0 && page > 0)
@@ -105,6 +106,7 @@ void ng_run_result_free(ng_run_result *out)
 {
     if (out == NULL) return;
     ng_persistence_free(out->persistence);
+    ng_grid_free(&out->grid);
     memset(out, 0, sizeof *out);
 }
 
@@ -527,6 +529,10 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
         return ng_error_set(err, NG_ERR_USAGE,
                             "--max-degree %d: expected 0 to %d",
                             opt->max_degree, NG_COMPLEX_MAX_DIM - 1);
+    if (opt->grid < 2)
+        return ng_error_set(err, NG_ERR_USAGE,
+                            "--grid %zu: expected at least 2 scales",
+                            opt->grid);
     if (!opt->scale_auto && !(opt->scale_limit >= 0.0 &&
                               isfinite(opt->scale_limit)))
         return ng_error_set(err, NG_ERR_USAGE,
@@ -583,6 +589,10 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
                                     err);
     if (status != NG_OK) goto cleanup;
     report(&o, "reduction", 1.0);
+    status = ng_grid_compute(complex, out->persistence, o.grid, &out->grid,
+                             err);
+    if (status != NG_OK) goto cleanup;
+    report(&o, "grid", 1.0);
     for (int j = 0; j < L; j++) {
         const ng_diagram *d = &out->persistence->diagram[j];
         for (int k = 0; k <= d->max_degree; k++) {

@@ -77,6 +77,7 @@ typedef struct counting_ctx {
     atomic_long calls;
     int fail_at_size; /* return an error for simplices of this size */
     int nan_at_size;  /* write NaN for simplices of this size */
+    int inf_at_size;  /* write +inf for simplices of this size */
 } counting_ctx;
 
 static double hash_value(const ng_index *v, int m, int j)
@@ -96,7 +97,9 @@ static int counting_value(const ng_index *v, int m, double *out, void *ctx)
     for (int i = 1; i < m; i++) ck_assert_uint_lt(v[i - 1], v[i]);
     if (m == cc->fail_at_size) return NG_ERR_IO;
     for (int j = 0; j < cc->L; j++)
-        out[j] = m == cc->nan_at_size ? NAN : hash_value(v, m, j);
+        out[j] = m == cc->nan_at_size   ? NAN
+                 : m == cc->inf_at_size ? INFINITY
+                                        : hash_value(v, m, j);
     return 0;
 }
 
@@ -296,6 +299,13 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
             ck_assert_uint_eq(ng_complex_count_within(c, k, j), within);
         }
     }
+    /* the byte estimate covers at least the stored tables */
+    size_t tables = 0;
+    for (int k = 0; k <= top; k++)
+        tables += size.count[k] * ((size_t)(k + 1) * sizeof(ng_index) +
+                                   (size_t)L * sizeof(double));
+    ck_assert_uint_ge(size.bytes_build, tables);
+    ck_assert_uint_gt(size.bytes_reduce, 0);
     /* exactly one callback per simplex of dimension >= 1 */
     ck_assert_int_eq(atomic_load(&cc.calls), higher);
     /* a non-simplex is not found */
@@ -356,6 +366,18 @@ START_TEST(test_errors)
     ng_error_clear(&err);
     ck_assert_int_eq(ng_complex_build(&spec, &c, &err), NG_ERR_INPUT);
     cc.nan_at_size = 0;
+
+    /* +inf means never, even under an infinite scale limit */
+    cc.inf_at_size = 3;
+    spec.scale_limit = INFINITY;
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_complex_build(&spec, &c, &err), NG_OK);
+    ck_assert_uint_gt(ng_complex_count(c, 2), 0);
+    ck_assert_uint_eq(ng_complex_count_within(c, 2, 0), 0);
+    ck_assert_uint_eq(ng_complex_count_within(c, 1, 0), ng_complex_count(c, 1));
+    ng_complex_free(c);
+    cc.inf_at_size = 0;
+    spec.scale_limit = 1.0;
 
     /* bad arguments */
     spec.top_dim = 6;

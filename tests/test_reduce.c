@@ -511,10 +511,14 @@ static void check_random_case(size_t dimension, int D, int max_n)
 
     ng_error err;
     ng_error_clear(&err);
-    ng_persistence *p1 = NULL, *p2 = NULL;
+    ng_persistence *p1 = NULL, *p2 = NULL, *p4 = NULL;
     ck_assert_int_eq(ng_persistence_compute(c1, 1, &p1, &err), NG_OK);
+    /* 2 threads: one per filtration; 4 threads (more than the 3
+     * filtrations): all threads inside each filtration */
     ck_assert_int_eq(ng_persistence_compute(c2, 2, &p2, &err), NG_OK);
+    ck_assert_int_eq(ng_persistence_compute(c1, 4, &p4, &err), NG_OK);
     assert_same_persistence(p1, p2);
+    assert_same_persistence(p1, p4);
 
     ref_list all = {0};
     ng_index v[MAXV];
@@ -563,6 +567,7 @@ static void check_random_case(size_t dimension, int D, int max_n)
     free(all.s);
     ng_persistence_free(p1);
     ng_persistence_free(p2);
+    ng_persistence_free(p4);
     ng_complex_free(c1);
     ng_complex_free(c2);
     graph_release(&g);
@@ -759,12 +764,12 @@ START_TEST(test_errors_and_free)
     for (size_t i = 0; i < 50; i++) cl.pts[i] = rng_uniform();
     ng_csr g = radius_graph(&cl, 0.35);
     ng_complex *c = build(&cl, &g, 3, INFINITY, 2);
-    int succeeded = 0;
+    int succeeded = 0, threads = 2 + 2 * (_i % 2); /* 4: inner threads */
     for (long after = 0; after < 2000 && !succeeded; after++) {
         ng_error_clear(&err);
         p = NULL;
         ng_alloc_fail_after(after);
-        int st = ng_persistence_compute(c, 2, &p, &err);
+        int st = ng_persistence_compute(c, threads, &p, &err);
         ng_alloc_fail_after(-1);
         if (st == NG_OK) {
             succeeded = 1;
@@ -794,7 +799,7 @@ static Suite *reduce_suite(int slow)
         tcase_add_test(tc, test_circle);
         tcase_add_test(tc, test_sphere);
         tcase_add_test(tc, test_torus);
-        tcase_add_test(tc, test_errors_and_free);
+        tcase_add_loop_test(tc, test_errors_and_free, 0, 2);
     }
     suite_add_tcase(s, tc);
     return s;

@@ -15,7 +15,8 @@
  *     take theirs from an array, larger simplices from one call of the
  *     value callback, raised to the max over their facets so that a face is
  *     never later than its coface whatever the callback's rounding.
- *   - Filtration j at scale limit T holds the simplices with value_j ≤ T,
+ *   - Filtration j at scale limit T holds the simplices with value_j ≤ T
+ *     (and value_j < +inf: +inf means "never", also when T = +inf),
  *     totally ordered by (value_j, dimension, key): faces before cofaces,
  *     deterministic.
  */

@@ -12,6 +12,14 @@
  *   /cech/dim{k}/birth_vertices int64[m][k+1], death_vertices int64[m][k+2]
  *   /rips/dim{k}/…    the same
  *   /slices/values    float64[L], attr kind; /slices/{j}/dim{k}/… likewise
+ *   /grid/scale       float64[G]; betti_cech, betti_rips int64[G][D+1];
+ *                     simplices_cech, simplices_rips int64[G][D+2];
+ *                     factor_max, factor_q50, factor_q90, shift_max,
+ *                     shift_q50, shift_q90 float64[G];
+ *                     hilbert int64[L][G][D+1] (only with slices)
+ *   /divergence/bottleneck, wasserstein1, wasserstein2  float64[D+1];
+ *                     attrs factor_bound, shift_bound, factor_bound_at,
+ *                     shift_bound_at, wasserstein_relative_error
  *
  * Safety: the file is written under a temporary name in the directory of
  * the final path and renamed onto it only when complete, so a killed or
@@ -21,6 +29,7 @@
 #define NERVEGAP_RESULTS_H
 
 #include "nervegap/common.h"
+#include "nervegap/grid.h"
 #include "nervegap/persistence.h"
 
 #define NG_RESULTS_FORMAT "nervegap-results"
@@ -44,6 +53,11 @@ typedef struct ng_run_record {
     const char *slice_kind;    /* "factor" or "shift"; NULL: no slices */
     const double *slice_values;
     int n_slices;
+    const ng_grid *grid;       /* NULL: no /grid */
+    const double *bottleneck;  /* D+1 values each; NULL: no /divergence */
+    const double *wasserstein1;
+    const double *wasserstein2;
+    double wasserstein_relative_error; /* guaranteed bound of the two */
 } ng_run_record;
 
 /* An output file being prepared: created under a temporary name so that an

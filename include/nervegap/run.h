@@ -20,6 +20,7 @@
 #include "nervegap/cloud.h"
 #include "nervegap/common.h"
 #include "nervegap/complex.h"
+#include "nervegap/grid.h"
 #include "nervegap/persistence.h"
 #include "nervegap/radius.h"
 
@@ -43,12 +44,14 @@ typedef struct ng_run_options {
     ng_slice_kind slice_kind;
     int n_slices;
     double slice_values[NG_RUN_MAX_SLICES]; /* λ ≥ 1 or δ ≥ 0 */
+    size_t grid;           /* G ≥ 2 scales of the per-scale grid (128) */
     int threads;           /* ≤ 0: the OpenMP default */
     ng_progress_fn progress; /* may be NULL */
     void *progress_ctx;
 } ng_run_options;
 
-/* Defaults: D = 1, auto scale limit, half the physical memory, no slices. */
+/* Defaults: D = 1, auto scale limit, half the physical memory, no slices,
+ * a grid of 128 scales. */
 NG_API void ng_run_options_init(ng_run_options *opt);
 
 /* Parses "factor:1.02,1.05" or "shift:0.1,0.2" into opt (the text of
@@ -68,6 +71,7 @@ typedef struct ng_run_result {
                                 essential degree-0 class per filtration) */
     ng_complex_size size;    /* the simplex set */
     ng_persistence *persistence; /* owned; ng_run_result_free */
+    ng_grid grid;            /* owned; the per-scale statistics */
 } ng_run_result;
 
 /* Runs the job. cloud and radii come from ng_radii_compute under scheme.

@@ -32,6 +32,8 @@ static const char run_help[] =
     "                          else the largest scale that fits\n"
     "  --slices factor:L,..    also the slices max(rips, cech/L) (L ≥ 1), or\n"
     "  --slices shift:D,..     max(rips, cech - D) (D ≥ 0)\n"
+    "  --grid G                per-scale statistics on G scales over\n"
+    "                          [0, scale limit] (default 128)\n"
     "  --budget SIZE           memory for the complex and the reduction, e.g.\n"
     "                          4G (default: half the physical memory)\n"
     "  --quiet                 no progress lines on stderr\n";
@@ -89,7 +91,7 @@ int cmd_run(int argc, char **argv)
 {
     scheme_flags f = {0};
     const char *output = NULL, *max_degree = NULL, *scale_limit = NULL,
-               *slices = NULL, *budget = NULL;
+               *slices = NULL, *budget = NULL, *grid = NULL;
     int quiet = 0;
     const cli_option table[] = {
         SCHEME_OPTIONS(f),
@@ -98,6 +100,7 @@ int cmd_run(int argc, char **argv)
         {"scale-limit", NULL, 1, &scale_limit, NULL},
         {"slices", NULL, 1, &slices, NULL},
         {"budget", NULL, 1, &budget, NULL},
+        {"grid", NULL, 1, &grid, NULL},
         {"quiet", NULL, 0, NULL, &quiet},
         {NULL, NULL, 0, NULL, NULL},
     };
@@ -140,6 +143,17 @@ int cmd_run(int argc, char **argv)
                          scale_limit);
         opt.scale_auto = 0;
         opt.scale_limit = t;
+    }
+    if (err.code == NG_OK && grid) {
+        char *end;
+        errno = 0;
+        unsigned long long g = strtoull(grid, &end, 10);
+        if (grid[0] < '0' || grid[0] > '9' || *end != '\0' || errno != 0 ||
+            g < 2 || g > (1u << 24))
+            ng_error_set(&err, NG_ERR_USAGE,
+                         "--grid %s: expected a number of scales from 2 to "
+                         "16777216", grid);
+        opt.grid = (size_t)g;
     }
     if (err.code == NG_OK && slices)
         ng_run_parse_slices(slices, &opt, &err);
@@ -209,6 +223,7 @@ int cmd_run(int argc, char **argv)
                                                          : NULL,
         .slice_values = opt.slice_values,
         .n_slices = opt.slice_kind == NG_SLICE_NONE ? 0 : opt.n_slices,
+        .grid = &result.grid,
     };
     ng_results_file *committing = file;
     file = NULL; /* commit frees it whatever the outcome */

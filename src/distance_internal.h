@@ -1,0 +1,103 @@
+/* distance_internal.h — the pieces behind distance.h, shared by
+ * distance.c, bottleneck.c, wasserstein.c and distance_tree.c, and open to
+ * the tests and the benchmark.
+ *
+ * The solvers below work on "finite diagrams": m × 2 arrays of points with
+ * finite birth < finite death (validation, dropping of birth == death and
+ * the essential points are distance.c's job). Costs are always computed by
+ * the inline functions here, so every solver and every candidate list sees
+ * bit-identical values.
+ */
+#ifndef NERVEGAP_DISTANCE_INTERNAL_H
+#define NERVEGAP_DISTANCE_INTERNAL_H
+
+#include "nervegap/distance.h"
+
+#include <math.h>
+#include <stddef.h>
+
+/* L∞ distance of (b1, d1) and (b2, d2). */
+static inline double distance_linf(double b1, double d1, double b2, double d2)
+{
+    double x = fabs(b1 - b2), y = fabs(d1 - d2);
+    return x > y ? x : y;
+}
+
+/* L∞ distance of (b, d) to the diagonal. */
+static inline double distance_diag(double b, double d) { return (d - b) / 2; }
+
+/* c^p, exact for p = 1 and p = 2. */
+static inline double distance_pow(double c, double p)
+{
+    if (p == 1.0) return c;
+    if (p == 2.0) return c * c;
+    return pow(c, p);
+}
+
+/* ---- weighted 2-D k-d tree (distance_tree.c) ----
+ * A static tree over n points; every point carries a weight that can be
+ * changed at any time (O(log n)); each node knows the bounding box and the
+ * least weight of its points, which the two queries use for pruning. */
+typedef struct distance_tree {
+    size_t n;
+    double *x, *y;   /* coordinates in tree order */
+    double *w;       /* weights in tree order */
+    size_t *id;      /* tree position -> caller's index */
+    size_t *pos;     /* caller's index -> tree position */
+    size_t nodes;    /* node slots (heap numbering, root 1) */
+    double *box;     /* 4 per node: xlo, xhi, ylo, yhi */
+    double *minw;    /* least weight below each node */
+} distance_tree;
+
+#define DISTANCE_NONE ((size_t)-1)
+
+/* Builds the tree over pts (n × 2); all weights 0. NG_OK or NG_ERR_NOMEM
+ * (message written). Free with ng_distance_tree_free (accepts a zeroed
+ * tree). */
+int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
+                           ng_error *err);
+void ng_distance_tree_free(distance_tree *t);
+/* Sets the weight of the caller's point i. */
+void ng_distance_tree_set(distance_tree *t, size_t i, double w);
+/* Weight of the caller's point i. */
+double ng_distance_tree_get(const distance_tree *t, size_t i);
+/* Sets every weight from w[i] (caller's order) in O(n). */
+void ng_distance_tree_set_all(distance_tree *t, const double *w);
+/* Some caller index i with distance_linf(q, x_i) ≤ r and weight ≤ wmax, or
+ * DISTANCE_NONE. Deterministic. */
+size_t ng_distance_tree_find(const distance_tree *t, double qx, double qy,
+                             double r, double wmax);
+/* The caller index minimising distance_pow(distance_linf(q, x_i), p) + w_i
+ * (ties: the first met, deterministically), its value in *v1 and the
+ * second-least value in *v2 (+inf when n < 2). DISTANCE_NONE when n = 0. */
+size_t ng_distance_tree_best2(const distance_tree *t, double qx, double qy,
+                              double p, double *v1, double *v2);
+
+/* ---- solvers on finite diagrams ---- */
+
+/* Exact bottleneck distance of two finite diagrams (0 when both empty). */
+int ng_distance_bottleneck_finite(const double *a, size_t na, const double *b,
+                                  size_t nb, double *out, ng_error *err);
+
+/* Least total cost Σ cost^p over matchings, by the Hungarian method on the
+ * (na + nb) × (na + nb) augmented cost matrix. O((na + nb)^3). */
+int ng_distance_wasserstein_exact(const double *a, size_t na, const double *b,
+                                  size_t nb, double p, double *sum,
+                                  ng_error *err);
+
+/* Auction with ε-scaling. extra is an exact cost added to both the primal
+ * and the dual sum (the essential points' part); the auction stops once
+ * ((primal + extra) / (dual + extra))^(1/p) − 1 ≤ rel_error, or when ε can
+ * no longer shrink. *sum receives the primal total (without extra), *bound
+ * the relative error bound reached on W_p. */
+int ng_distance_wasserstein_auction(const double *a, size_t na,
+                                    const double *b, size_t nb, double p,
+                                    double rel_error, double extra,
+                                    double *sum, double *bound,
+                                    ng_error *err);
+
+/* Augmented size up to which ng_wasserstein_distance uses the exact
+ * method. */
+extern const size_t ng_distance_exact_limit;
+
+#endif
