@@ -42,8 +42,10 @@
 
 /* Inverses of 3 and 5 modulo 2^128: exact division by an odd number is a
  * multiplication by its inverse. */
-#define INV3 ((((ng_simplex_key)0xAAAAAAAAAAAAAAAAu) << 64) | 0xAAAAAAAAAAAAAAABu)
-#define INV5 ((((ng_simplex_key)0xCCCCCCCCCCCCCCCCu) << 64) | 0xCCCCCCCCCCCCCCCDu)
+#define INV3                                                                 \
+    ((((ng_simplex_key)0xAAAAAAAAAAAAAAAAu) << 64) | 0xAAAAAAAAAAAAAAABu)
+#define INV5                                                                 \
+    ((((ng_simplex_key)0xCCCCCCCCCCCCCCCCu) << 64) | 0xCCCCCCCCCCCCCCCDu)
 
 /* x / d for d = 1..6 when d divides x exactly. */
 static ng_simplex_key exact_div(ng_simplex_key x, int d)
@@ -636,7 +638,8 @@ int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
     /* values, dimension by dimension (facets first) */
     for (int j = 0; j < L; j++)
         for (size_t i = 0; i < n; i++)
-            c->value[0][(size_t)j * n + i] = spec->vertex_values[i * (size_t)L + (size_t)j];
+            c->value[0][(size_t)j * n + i] =
+                spec->vertex_values[i * (size_t)L + (size_t)j];
     for (int k = 1; k <= top; k++) {
         status = compute_values(c, k, spec, nt, err);
         if (status != NG_OK) goto fail;

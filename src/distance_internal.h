@@ -96,8 +96,10 @@ int ng_distance_wasserstein_auction(const double *a, size_t na,
                                     double *sum, double *bound,
                                     ng_error *err);
 
-/* Augmented size up to which ng_wasserstein_distance uses the exact
- * method. */
-extern const size_t ng_distance_exact_limit;
+/* Augmented size na + nb up to which ng_wasserstein_distance uses the
+ * exact method. The setter (tests and measurements only; not thread-safe)
+ * returns the previous limit; DISTANCE_NONE restores the default. */
+size_t ng_distance_exact_limit(void);
+size_t ng_distance_set_exact_limit(size_t limit);
 
 #endif

@@ -5,9 +5,10 @@
  * filtration the only parallel step is the apparent-pair pass, whose
  * outcome per column does not depend on any other column, and every step
  * that does (the heap reductions, union–find) runs in one thread in a fixed
- * order. So the output is the same for any number of threads. The total order of a filtration is
- * (value, dimension, key); two simplices of one dimension compare by
- * (value, table position), since the tables are in key order.
+ * order. So the output is the same for any number of threads. The total
+ * order of a filtration is (value, dimension, key); two simplices of one
+ * dimension compare by (value, table position), since the tables are in
+ * key order.
  *
  * How it works.
  *   The standard algorithm (Edelsbrunner, Letscher, Zomorodian, "Topological

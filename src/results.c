@@ -344,3 +344,111 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
     ng_results_abort(f);
     return status;
 }
+
+/* ---- reading back ---- */
+
+void ng_results_bars_free(double *bars) { ng_free(bars); }
+
+static int read_scalar_attr(hid_t loc, const char *name, hid_t type,
+                            void *out)
+{
+    if (H5Aexists(loc, name) <= 0) return -1;
+    hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
+    if (a < 0) return -1;
+    herr_t r = H5Aread(a, type, out);
+    H5Aclose(a);
+    return r < 0 ? -1 : 0;
+}
+
+static int read_bars_open(hid_t file, const char *path, const char *group,
+                          int k, double **bars, size_t *count,
+                          int *max_degree, double *scale_limit,
+                          ng_error *err)
+{
+    char *format = NULL;
+    hid_t root = H5Gopen2(file, "/", H5P_DEFAULT);
+    hid_t str = H5Tcopy(H5T_C_S1);
+    H5Tset_size(str, H5T_VARIABLE);
+    H5Tset_cset(str, H5T_CSET_UTF8);
+    int ok = root >= 0 && read_scalar_attr(root, "format", str, &format) == 0 &&
+             format && strcmp(format, NG_RESULTS_FORMAT) == 0;
+    if (format) H5free_memory(format);
+    H5Tclose(str);
+    if (root >= 0) H5Gclose(root);
+    if (!ok)
+        return ng_error_set(err, NG_ERR_INPUT,
+                            "%s: not a nervegap results file (no format = "
+                            "\"%s\" attribute on /)", path, NG_RESULTS_FORMAT);
+    int64_t D = -1;
+    double T = NAN;
+    hid_t scheme = H5Gopen2(file, "scheme", H5P_DEFAULT);
+    if (scheme >= 0) {
+        read_scalar_attr(scheme, "max_degree", H5T_NATIVE_INT64, &D);
+        read_scalar_attr(scheme, "scale_limit", H5T_NATIVE_DOUBLE, &T);
+        H5Gclose(scheme);
+    }
+    if (max_degree) *max_degree = (int)D;
+    if (scale_limit) *scale_limit = T;
+    if (k < 0 || k > D)
+        return ng_error_set(err, NG_ERR_INPUT,
+                            "%s: degree %d is not in the file (it has degrees "
+                            "0..%lld)", path, k, (long long)D);
+    char name[128];
+    snprintf(name, sizeof name, "%s/dim%d/bars", group, k);
+    if (H5Lexists(file, group, H5P_DEFAULT) <= 0 ||
+        H5Lexists(file, name, H5P_DEFAULT) <= 0)
+        return ng_error_set(err, NG_ERR_INPUT, "%s: no dataset /%s", path,
+                            name);
+    hid_t set = H5Dopen2(file, name, H5P_DEFAULT);
+    hid_t space = set < 0 ? -1 : H5Dget_space(set);
+    hsize_t dims[2] = {0, 0};
+    int rank = space < 0 ? -1 : H5Sget_simple_extent_ndims(space);
+    if (rank == 2) H5Sget_simple_extent_dims(space, dims, NULL);
+    int status = NG_OK;
+    if (rank != 2 || dims[1] != 2) {
+        status = ng_error_set(err, NG_ERR_INPUT, "%s: /%s is not an m × 2 "
+                              "array", path, name);
+    } else {
+        *count = (size_t)dims[0];
+        *bars = ng_malloc(*count, 2 * sizeof **bars);
+        if (*bars == NULL)
+            status = ng_error_set(err, NG_ERR_NOMEM, "%s: out of memory for "
+                                  "%zu bars", path, *count);
+        else if (*count > 0 && H5Dread(set, H5T_NATIVE_DOUBLE, H5S_ALL,
+                                       H5S_ALL, H5P_DEFAULT, *bars) < 0)
+            status = ng_error_set(err, NG_ERR_IO, "%s: cannot read /%s", path,
+                                  name);
+    }
+    if (space >= 0) H5Sclose(space);
+    if (set >= 0) H5Dclose(set);
+    return status;
+}
+
+int ng_results_read_bars(const char *path, const char *group, int k,
+                         double **bars, size_t *count, int *max_degree,
+                         double *scale_limit, ng_error *err)
+{
+    *bars = NULL;
+    *count = 0;
+    H5E_auto2_t old_func;
+    void *old_data;
+    H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
+    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+    int status;
+    hid_t file = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
+    if (file < 0) {
+        status = ng_error_set(err, NG_ERR_INPUT,
+                              "%s: cannot open as an HDF5 file", path);
+    } else {
+        status = read_bars_open(file, path, group, k, bars, count, max_degree,
+                                scale_limit, err);
+        H5Fclose(file);
+    }
+    H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
+    if (status != NG_OK) {
+        ng_free(*bars);
+        *bars = NULL;
+        *count = 0;
+    }
+    return status;
+}

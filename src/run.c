@@ -10,6 +10,7 @@
 #include "nervegap/run.h"
 
 #include "alloc.h"
+#include "nervegap/distance.h"
 #include "nervegap/kdtree.h"
 #include "nervegap/values.h"
 
@@ -495,6 +496,60 @@ static int choose_scale(const ng_space *s, const ng_run_options *opt, int L,
     return NG_OK;
 }
 
+/* The bars of degree k of diagram d with deaths of +inf set to T (the
+ * comparison of two filtrations cut at the same T): a new m × 2 array. */
+static double *bars_cut_at(const ng_diagram *d, int k, double T)
+{
+    const ng_bars *b = &d->bars[k];
+    double *a = ng_malloc(b->count, 2 * sizeof *a);
+    if (a == NULL) return NULL;
+    for (size_t i = 0; i < b->count; i++) {
+        a[2 * i] = b->interval[2 * i];
+        a[2 * i + 1] = isinf(b->interval[2 * i + 1]) ? T
+                                                     : b->interval[2 * i + 1];
+    }
+    return a;
+}
+
+/* Bottleneck and Wasserstein distances between the Čech and Rips
+ * diagrams, per degree (DESIGN §2.6). */
+static int divergence(const ng_persistence *p, ng_run_result *out,
+                      ng_error *err)
+{
+    double T = p->scale_limit;
+    for (int k = 0; k <= p->max_degree; k++) {
+        double *a = bars_cut_at(&p->diagram[0], k, T);
+        double *b = bars_cut_at(&p->diagram[1], k, T);
+        size_t na = p->diagram[0].bars[k].count;
+        size_t nb = p->diagram[1].bars[k].count;
+        int status = NG_OK;
+        double rel1 = 0.0, rel2 = 0.0;
+        if (a == NULL || b == NULL)
+            status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
+        if (status == NG_OK)
+            status = ng_bottleneck_distance(a, na, b, nb, &out->bottleneck[k],
+                                            err);
+        if (status == NG_OK)
+            status = ng_wasserstein_distance(a, na, b, nb, 1.0,
+                                             NG_RUN_WASSERSTEIN_ERROR,
+                                             &out->wasserstein1[k], &rel1,
+                                             err);
+        if (status == NG_OK)
+            status = ng_wasserstein_distance(a, na, b, nb, 2.0,
+                                             NG_RUN_WASSERSTEIN_ERROR,
+                                             &out->wasserstein2[k], &rel2,
+                                             err);
+        ng_free(a);
+        ng_free(b);
+        if (status != NG_OK) return status;
+        if (rel1 > out->wasserstein_relative_error)
+            out->wasserstein_relative_error = rel1;
+        if (rel2 > out->wasserstein_relative_error)
+            out->wasserstein_relative_error = rel2;
+    }
+    return NG_OK;
+}
+
 typedef struct value_ctx {
     const ng_space *space;
     const ng_run_options *opt;
@@ -593,6 +648,9 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
                              err);
     if (status != NG_OK) goto cleanup;
     report(&o, "grid", 1.0);
+    status = divergence(out->persistence, out, err);
+    if (status != NG_OK) goto cleanup;
+    report(&o, "divergence", 1.0);
     for (int j = 0; j < L; j++) {
         const ng_diagram *d = &out->persistence->diagram[j];
         for (int k = 0; k <= d->max_degree; k++) {

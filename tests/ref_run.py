@@ -142,5 +142,21 @@ with tempfile.TemporaryDirectory() as tmp:
                 expect(f"{g} dim{k} -1 exactly where death is inf",
                        np.array_equal(np.all(dv[:] == -1, axis=1), np.isinf(arr[:, 1])))
 
+    # the same output for any thread count (DESIGN §3)
+    x = rng.uniform(0, 1, size=(300, 3))
+    path = os.path.join(tmp, "threads.csv")
+    np.savetxt(path, x, delimiter=",", fmt="%.17g")
+    outs = []
+    for threads in ("1", "2"):
+        o = os.path.join(tmp, f"t{threads}.h5")
+        flags = ["--radius", "knn:5", "--max-degree", "2", "--scale-limit", "0.12",
+                 "--slices", "shift:0.01", "--threads", threads]
+        with run(path, o, *flags) as f:
+            outs.append({name: f[name][:] for name in
+                         [f"{g}/dim{k}/{d}" for g in ("cech", "rips", "slices/0") for k in (0, 1, 2)
+                          for d in ("bars", "birth_vertices", "death_vertices")]})
+    expect("threads 1 and 2 give identical bars and simplices",
+           all(np.array_equal(outs[0][k], outs[1][k]) for k in outs[0]))
+
 print(f"{checks - failures} passed, {failures} failed")
 sys.exit(1 if failures else 0)

@@ -84,8 +84,9 @@ NG_API int ng_complex_estimate(const ng_csr *graph, int top_dim,
  * complex (free with ng_complex_free). On failure *out is NULL and the
  * status is NG_ERR_USAGE (bad arguments), NG_ERR_INPUT (bad graph, NaN
  * value), NG_ERR_BUDGET (more than UINT32_MAX − 1 simplices of one
- * dimension), NG_ERR_NOMEM, or the callback's failure (see ng_value_fn),
- * the message naming the simplex. */
+ * dimension, or so many vertices that keys of top_dim + 1 vertices leave
+ * 128 bits: above 5 868 182 vertices at top_dim 5), NG_ERR_NOMEM, or the
+ * callback's failure (see ng_value_fn), the message naming the simplex. */
 NG_API int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
                             ng_error *err);
 

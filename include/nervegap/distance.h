@@ -29,7 +29,7 @@ NG_API int ng_bottleneck_distance(const double *a, size_t na, const double *b,
                                   size_t nb, double *out, ng_error *err);
 
 /* p-Wasserstein distance W_p = (min over matchings of Σ cost^p)^(1/p) for
- * any p ≥ 1. Small problems (see DISTANCE_EXACT_LIMIT in wasserstein.c) are
+ * any p ≥ 1. Small problems (see EXACT_LIMIT in wasserstein.c) are
  * solved exactly (Hungarian method) and report *achieved_rel_error = 0;
  * larger ones by an auction with ε-scaling, stopped once the guaranteed
  * bound |W − W_p| / W_p ≤ *achieved_rel_error is ≤ rel_error (a caller

@@ -83,4 +83,17 @@ NG_API void ng_results_abort(ng_results_file *f);
 /* The temporary path of f (for signal handlers that must unlink it). */
 NG_API const char *ng_results_temp_path(const ng_results_file *f);
 
+/* Reads the bars of one diagram from a results file: group "cech",
+ * "rips" or "slices/J", degree k. On success *bars is an m × 2 array
+ * (caller frees with ng_results_bars_free) and *count = m; *max_degree (when
+ * not NULL) receives the file's max_degree and *scale_limit (when not NULL)
+ * its scale limit. NG_ERR_INPUT naming the file and path when the file is
+ * not a nervegap results file, or the degree or group is absent. */
+NG_API int ng_results_read_bars(const char *path, const char *group, int k,
+                                double **bars, size_t *count, int *max_degree,
+                                double *scale_limit, ng_error *err);
+
+/* Frees an array returned by ng_results_read_bars. Accepts NULL. */
+NG_API void ng_results_bars_free(double *bars);
+
 #endif

@@ -72,7 +72,15 @@ typedef struct ng_run_result {
     ng_complex_size size;    /* the simplex set */
     ng_persistence *persistence; /* owned; ng_run_result_free */
     ng_grid grid;            /* owned; the per-scale statistics */
+    /* Čech vs Rips per degree 0..D, deaths of +inf counted as T */
+    double bottleneck[NG_COMPLEX_MAX_DIM];
+    double wasserstein1[NG_COMPLEX_MAX_DIM];
+    double wasserstein2[NG_COMPLEX_MAX_DIM];
+    double wasserstein_relative_error; /* guaranteed bound of both */
 } ng_run_result;
+
+/* Relative error allowed to the Wasserstein distances of a run. */
+#define NG_RUN_WASSERSTEIN_ERROR 1e-6
 
 /* Runs the job. cloud and radii come from ng_radii_compute under scheme.
  * On success out owns the persistence (free with ng_run_result_free). On

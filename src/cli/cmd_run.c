@@ -224,6 +224,10 @@ int cmd_run(int argc, char **argv)
         .slice_values = opt.slice_values,
         .n_slices = opt.slice_kind == NG_SLICE_NONE ? 0 : opt.n_slices,
         .grid = &result.grid,
+        .bottleneck = result.bottleneck,
+        .wasserstein1 = result.wasserstein1,
+        .wasserstein2 = result.wasserstein2,
+        .wasserstein_relative_error = result.wasserstein_relative_error,
     };
     ng_results_file *committing = file;
     file = NULL; /* commit frees it whatever the outcome */

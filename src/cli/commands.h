@@ -6,6 +6,7 @@
 
 #include "nervegap/common.h"
 
+int cmd_distance(int argc, char **argv);
 int cmd_radii(int argc, char **argv);
 int cmd_run(int argc, char **argv);
 int cmd_values(int argc, char **argv);

@@ -1,0 +1,165 @@
+/* bench_distance.c — bottleneck and Wasserstein distances (distance.h) on
+ * random diagrams against a perturbed copy of themselves.
+ *
+ * Usage:
+ *   bench_distance             the standard cases: bottleneck, W1 and W2
+ *                              (relative error 1e-6) for n = 10^3, 10^4,
+ *                              10^5 points per diagram
+ *   bench_distance quick       n = 10^3 and 10^4 only
+ *   bench_distance exact       the exact method against the auction for
+ *                              augmented sizes 100..1000 (how EXACT_LIMIT
+ *                              in wasserstein.c was chosen)
+ *
+ * The diagram (fixed seed): births uniform in [0, 1), lengths exponential
+ * with mean 0.1; the copy moves each coordinate by a uniform amount in
+ * [−0.01, 0.01] (birth < death kept) — the realistic case of two close
+ * filtrations. Each case runs in its own forked child, so that its peak
+ * memory (getrusage ru_maxrss) is its own; the child times 3 runs and
+ * prints the median as one machine-readable line, e.g.
+ *   bench=distance kind=W1 n=100000 method=auction rel_error=1e-06
+ *   value=1.234 bound=8.1e-07 seconds=2.5 peak_rss_kib=40000
+ */
+#include "nervegap/distance.h"
+
+#include "distance_internal.h"
+
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/resource.h>
+#include <sys/types.h>
+#include <sys/wait.h>
+#include <time.h>
+#include <unistd.h>
+
+#define RUNS 3
+
+static double now_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int double_cmp(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static uint64_t state;
+
+static double uniform(void) /* splitmix64 */
+{
+    uint64_t z = (state += 0x9E3779B97F4A7C15u);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
+    z ^= z >> 31;
+    return (double)(z >> 11) * 0x1.0p-53;
+}
+
+/* A random diagram of n points and its perturbed copy. */
+static void make_pair(size_t n, double *a, double *b)
+{
+    state = 20240611u + n;
+    for (size_t i = 0; i < n; i++) {
+        double birth = uniform();
+        double len = -0.1 * log(1.0 - uniform()) + 1e-9;
+        a[2 * i] = birth;
+        a[2 * i + 1] = birth + len;
+        double nb = birth + 0.02 * (uniform() - 0.5);
+        double nd = birth + len + 0.02 * (uniform() - 0.5);
+        if (nd <= nb) nd = nb + 1e-9;
+        b[2 * i] = nb;
+        b[2 * i + 1] = nd;
+    }
+}
+
+/* kind 0: bottleneck; 1, 2: W1, W2. */
+static int run_case(int kind, size_t n, const char *method, double rel)
+{
+    double *a = malloc(2 * n * sizeof *a), *b = malloc(2 * n * sizeof *b);
+    if (a == NULL || b == NULL) {
+        fprintf(stderr, "bench_distance: out of memory for n=%zu\n", n);
+        return 1;
+    }
+    make_pair(n, a, b);
+    if (strcmp(method, "exact") == 0)
+        ng_distance_set_exact_limit(SIZE_MAX - 1);
+    else if (strcmp(method, "auction") == 0)
+        ng_distance_set_exact_limit(0);
+    double seconds[RUNS], value = 0, bound = 0;
+    for (int r = 0; r < RUNS; r++) {
+        ng_error err;
+        ng_error_clear(&err);
+        double t0 = now_seconds();
+        int status =
+            kind == 0
+                ? ng_bottleneck_distance(a, n, b, n, &value, &err)
+                : ng_wasserstein_distance(a, n, b, n, (double)kind, rel,
+                                          &value, &bound, &err);
+        seconds[r] = now_seconds() - t0;
+        if (status != NG_OK) {
+            fprintf(stderr, "bench_distance: %s\n", err.message);
+            return 1;
+        }
+    }
+    qsort(seconds, RUNS, sizeof seconds[0], double_cmp);
+    struct rusage ru;
+    getrusage(RUSAGE_SELF, &ru);
+    const char *used = kind == 0 ? "exact"
+                       : strcmp(method, "auto") != 0
+                           ? method
+                           : (2 * n <= ng_distance_exact_limit() ? "exact"
+                                                                 : "auction");
+    printf("bench=distance kind=%s n=%zu method=%s rel_error=%g value=%.17g "
+           "bound=%.3g seconds=%.4f peak_rss_kib=%ld\n",
+           kind == 0 ? "bottleneck" : kind == 1 ? "W1" : "W2", n, used, rel,
+           value, bound, seconds[RUNS / 2], (long)ru.ru_maxrss);
+    fflush(stdout);
+    free(a);
+    free(b);
+    return 0;
+}
+
+static int fork_case(int kind, size_t n, const char *method, double rel)
+{
+    fflush(stdout);
+    pid_t pid = fork();
+    if (pid < 0) {
+        perror("bench_distance: fork");
+        return 1;
+    }
+    if (pid == 0) _exit(run_case(kind, n, method, rel));
+    int wstatus;
+    if (waitpid(pid, &wstatus, 0) < 0) {
+        perror("bench_distance: waitpid");
+        return 1;
+    }
+    return !(WIFEXITED(wstatus) && WEXITSTATUS(wstatus) == 0);
+}
+
+int main(int argc, char **argv)
+{
+    int failed = 0;
+    const char *mode = argc > 1 ? argv[1] : "standard";
+    if (strcmp(mode, "standard") == 0 || strcmp(mode, "quick") == 0) {
+        size_t top = strcmp(mode, "quick") == 0 ? 10000 : 100000;
+        for (size_t n = 1000; n <= top; n *= 10)
+            for (int kind = 0; kind <= 2; kind++)
+                failed |= fork_case(kind, n, "auto", 1e-6);
+    } else if (strcmp(mode, "exact") == 0) {
+        static const size_t sizes[] = {50, 100, 150, 250, 350, 500};
+        for (size_t s = 0; s < sizeof sizes / sizeof sizes[0]; s++)
+            for (int kind = 1; kind <= 2; kind++) {
+                failed |= fork_case(kind, sizes[s], "exact", 1e-6);
+                failed |= fork_case(kind, sizes[s], "auction", 1e-6);
+            }
+    } else {
+        fprintf(stderr, "usage: bench_distance [standard|quick|exact]\n");
+        return 2;
+    }
+    return failed ? EXIT_FAILURE : EXIT_SUCCESS;
+}
