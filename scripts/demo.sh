@@ -41,5 +41,9 @@ with h5py.File(sys.argv[1], "r") as f:
         b = f[f"slices/{j}/dim1/bars"][:]
         top = b[np.argsort(b[:, 0] - b[:, 1])[:2]]
         print(f"   slice factor {lam:.2f}: " + ", ".join(f"[{x:.2f}, {y:.2f})" for x, y in top))
+    d = f["divergence"]
+    print("   Čech vs Rips: bottleneck " + ", ".join(f"dim{k} {v:.3f}" for k, v in enumerate(d["bottleneck"][:])) +
+          "; 1-Wasserstein " + ", ".join(f"dim{k} {v:.2f}" for k, v in enumerate(d["wasserstein1"][:])))
+    print(f"   enlargement needed: factor Λ = {d.attrs['factor_bound']:.4f}, shift Δ = {d.attrs['shift_bound']:.3f}")
 PY
 echo "== results file: $out"

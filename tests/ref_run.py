@@ -147,7 +147,7 @@ with tempfile.TemporaryDirectory() as tmp:
     path = os.path.join(tmp, "threads.csv")
     np.savetxt(path, x, delimiter=",", fmt="%.17g")
     outs = []
-    for threads in ("1", "2"):
+    for threads in ("1", "2", "4"):
         o = os.path.join(tmp, f"t{threads}.h5")
         flags = ["--radius", "knn:5", "--max-degree", "2", "--scale-limit", "0.12",
                  "--slices", "shift:0.01", "--threads", threads]
@@ -155,8 +155,26 @@ with tempfile.TemporaryDirectory() as tmp:
             outs.append({name: f[name][:] for name in
                          [f"{g}/dim{k}/{d}" for g in ("cech", "rips", "slices/0") for k in (0, 1, 2)
                           for d in ("bars", "birth_vertices", "death_vertices")]})
-    expect("threads 1 and 2 give identical bars and simplices",
-           all(np.array_equal(outs[0][k], outs[1][k]) for k in outs[0]))
+    expect("threads 1, 2 and 4 give identical bars and simplices",
+           all(np.array_equal(outs[0][k], o[k]) for o in outs[1:] for k in outs[0]))
+
+    # a large cloud: degree-0 deaths = MST / 2 (scipy), cut just above the
+    # longest MST edge so that every finite degree-0 bar is complete
+    from scipy.spatial import cKDTree
+    n = 5000
+    x = rng.uniform(0, 1, size=(n, 3))
+    path = os.path.join(tmp, "big.csv")
+    np.savetxt(path, x, delimiter=",", fmt="%.17g")
+    pairs = cKDTree(x).sparse_distance_matrix(cKDTree(x), 0.15, output_type="coo_matrix")
+    mst = minimum_spanning_tree(pairs.tocsr()).toarray()
+    want = np.sort(mst[mst > 0]) / 2
+    expect("n=5000 MST connected within 0.15", len(want) == n - 1)
+    with run(path, out, "--max-degree", "0", "--scale-limit", repr(want[-1] * 1.01)) as f:
+        b = f["rips/dim0/bars"][:]
+        finite = np.sort(b[np.isfinite(b[:, 1]), 1])
+        # reference: scipy.sparse.csgraph.minimum_spanning_tree
+        expect("n=5000 rips dim0 deaths = MST/2", finite.shape == want.shape and
+               np.allclose(finite, want, rtol=1e-12, atol=0))
 
 print(f"{checks - failures} passed, {failures} failed")
 sys.exit(1 if failures else 0)
