@@ -40,9 +40,8 @@
  *   components, the one whose oldest vertex is younger dies, paired with
  *   that vertex); the joining edges are the pivots of degree 0.
  *
- *   Apparent pairs and implicit coboundaries (U. Bauer, "Ripser: efficient
- *   computation of Vietoris–Rips persistence barcodes", J. Appl. Comput.
- *   Topol. 5, 2021). Columns are never stored: the cofacets of a simplex
+ *   Apparent pairs and implicit coboundaries (U. Bauer, J. Appl. Comput.
+ *   Topol. 5, 391–423, 2021, on computing Vietoris–Rips barcodes). Columns are never stored: the cofacets of a simplex
  *   are enumerated from the neighbour lists when needed (complex.c), and a
  *   reduced column is kept only as the list V of simplices whose
  *   coboundaries it sums. The working column is a binary heap of cofacets
