@@ -12,23 +12,14 @@ import os
 import subprocess
 import sys
 import tempfile
+from checklib import expect, finish
 
 NERVEGAP, FIXTURES = sys.argv[1], sys.argv[2]
-failures = 0
-checks = 0
 
 
 def run(*args):
     p = subprocess.run([NERVEGAP, *args], capture_output=True, text=True, timeout=120)
     return p.returncode, p.stdout, p.stderr
-
-
-def expect(name, cond, detail=""):
-    global failures, checks
-    checks += 1
-    if not cond:
-        failures += 1
-        print(f"FAIL {name} {detail}")
 
 
 def expect_error(name, args, code, needle):
@@ -129,5 +120,4 @@ with tempfile.TemporaryDirectory() as tmp:
     expect("run auto under a small budget", rc == 0 and "chosen to fit the memory budget" in err, err)
     expect("run wrote the file", os.path.exists(out))
 
-print(f"{checks - failures} passed, {failures} failed")
-sys.exit(1 if failures else 0)
+finish()

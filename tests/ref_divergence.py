@@ -26,7 +26,6 @@ Usage: ref_divergence.py NERVEGAP
 import json
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
@@ -35,25 +34,13 @@ import numpy as np
 from scipy.optimize import linear_sum_assignment
 from scipy.sparse import csr_matrix
 from scipy.sparse.csgraph import maximum_bipartite_matching
+from checklib import expect, finish, nervegap as run_binary
 
 NERVEGAP = sys.argv[1]
-failures = 0
-checks = 0
-
-
-def expect(name, cond, detail=""):
-    global failures, checks
-    checks += 1
-    if not cond:
-        failures += 1
-        print(f"FAIL {name} {detail}")
 
 
 def nervegap(*args):
-    p = subprocess.run([NERVEGAP, *args], capture_output=True, text=True, timeout=300)
-    if p.returncode != 0:
-        raise RuntimeError(p.stderr)
-    return p.stdout
+    return run_binary(NERVEGAP, *args)
 
 
 def augmented_costs(a, b):
@@ -169,5 +156,4 @@ with tempfile.TemporaryDirectory() as tmp:
                         expect(f"{trial} {rule} dim{k} log bottleneck <= log Λ",
                                got <= math.log(lam) + 1e-12, f"{got} > {math.log(lam)}")
 
-print(f"{checks - failures} passed, {failures} failed")
-sys.exit(1 if failures else 0)
+finish()

@@ -22,31 +22,18 @@ import io
 import itertools
 import math
 import os
-import subprocess
 import sys
 import tempfile
 
 import h5py
 import numpy as np
+from checklib import expect, finish, nervegap as run_binary
 
 NERVEGAP = sys.argv[1]
-failures = 0
-checks = 0
-
-
-def expect(name, cond, detail=""):
-    global failures, checks
-    checks += 1
-    if not cond:
-        failures += 1
-        print(f"FAIL {name} {detail}")
 
 
 def nervegap(*args):
-    p = subprocess.run([NERVEGAP, *args], capture_output=True, text=True, timeout=300)
-    if p.returncode != 0:
-        raise RuntimeError(p.stderr)
-    return p.stdout
+    return run_binary(NERVEGAP, *args)
 
 
 def betti_recount(f, group, scale, D):
@@ -133,5 +120,4 @@ with tempfile.TemporaryDirectory() as tmp:
         expect(f"{trial} hilbert at factor 2 = Rips Betti curve",
                np.array_equal(grid["hilbert"][1], grid["betti_rips"]))
 
-print(f"{checks - failures} passed, {failures} failed")
-sys.exit(1 if failures else 0)
+finish()

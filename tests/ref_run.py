@@ -25,18 +25,9 @@ import h5py
 import numpy as np
 from scipy.sparse.csgraph import minimum_spanning_tree
 from scipy.spatial.distance import cdist
+from checklib import expect, finish
 
 NERVEGAP = sys.argv[1]
-failures = 0
-checks = 0
-
-
-def expect(name, cond, detail=""):
-    global failures, checks
-    checks += 1
-    if not cond:
-        failures += 1
-        print(f"FAIL {name} {detail}")
 
 
 def run(path, out, *flags):
@@ -176,5 +167,4 @@ with tempfile.TemporaryDirectory() as tmp:
         expect("n=5000 rips dim0 deaths = MST/2", finite.shape == want.shape and
                np.allclose(finite, want, rtol=1e-12, atol=0))
 
-print(f"{checks - failures} passed, {failures} failed")
-sys.exit(1 if failures else 0)
+finish()
