@@ -165,7 +165,7 @@ static size_t simplices_at(const cloud *cl, int top, double T)
     ng_complex_size s;
     ng_error err;
     ng_error_clear(&err);
-    int st = ng_complex_estimate(&g, top, 1, 0, &s, &err);
+    int st = ng_complex_estimate(&g, top, 1, 0, 0, &s, &err);
     graph_release(&g);
     return st == NG_OK ? s.total : SIZE_MAX;
 }
@@ -201,7 +201,7 @@ static int run_case(cloud *cl, int D, double T, int L, int threads)
     ng_complex *c = NULL;
     ng_persistence *p = NULL;
     ng_complex_size est;
-    if (ng_complex_estimate(&g, D + 1, L, threads, &est, &err) != NG_OK) {
+    if (ng_complex_estimate(&g, D + 1, L, 0, threads, &est, &err) != NG_OK) {
         fprintf(stderr, "bench_reduce: %s\n", err.message);
         return 1;
     }

@@ -119,17 +119,47 @@ void ng_simplex_key_decode(ng_simplex_key key, int m, ng_index *v)
 
 /* ---- graph checks ---- */
 
-static int has_neighbor(const ng_csr *g, size_t i, ng_index j)
+static int not_symmetric(ng_index a, size_t b, ng_error *err)
 {
-    size_t lo = g->offset[i], hi = g->offset[i + 1];
-    while (lo < hi) {
-        size_t mid = lo + (hi - lo) / 2;
-        if (g->nbr[mid] < j)
-            lo = mid + 1;
-        else
-            hi = mid;
+    return ng_error_set(err, NG_ERR_INPUT,
+                        "complex: neighbour graph is not symmetric: %u lists "
+                        "%zu but not the reverse",
+                        (unsigned)a, b);
+}
+
+/* Symmetry of sorted lists in one pass: taking i in increasing order, the
+ * lower neighbours of every j are met in increasing order too, so each
+ * edge (i, j) with i < j must be the next unmatched entry of j's list. */
+static int check_symmetric(const ng_csr *g, ng_error *err)
+{
+    size_t *cursor = ng_malloc(g->n, sizeof *cursor);
+    if (cursor == NULL)
+        return ng_error_set(err, NG_ERR_NOMEM,
+                            "complex: out of memory checking the graph");
+    memcpy(cursor, g->offset, g->n * sizeof *cursor);
+    int status = NG_OK;
+    for (size_t i = 0; i < g->n && status == NG_OK; i++) {
+        for (size_t e = g->offset[i]; e < g->offset[i + 1]; e++) {
+            ng_index j = g->nbr[e];
+            if (j < i) continue;
+            size_t c = cursor[j];
+            if (c < g->offset[j + 1] && g->nbr[c] == i) {
+                cursor[j]++;
+                continue;
+            }
+            if (c < g->offset[j + 1] && g->nbr[c] < i)
+                status = not_symmetric(j, g->nbr[c], err);
+            else
+                status = not_symmetric((ng_index)i, j, err);
+            break;
+        }
     }
-    return lo < g->offset[i + 1] && g->nbr[lo] == j;
+    /* every lower neighbour must have been matched */
+    for (size_t j = 0; j < g->n && status == NG_OK; j++)
+        if (cursor[j] < g->offset[j + 1] && g->nbr[cursor[j]] < j)
+            status = not_symmetric((ng_index)j, g->nbr[cursor[j]], err);
+    ng_free(cursor);
+    return status;
 }
 
 static int check_graph(const ng_csr *g, int top_dim, int n_filtrations,
@@ -174,14 +204,7 @@ static int check_graph(const ng_csr *g, int top_dim, int n_filtrations,
                                     i);
         }
     }
-    for (size_t i = 0; i < g->n; i++)
-        for (size_t e = g->offset[i]; e < g->offset[i + 1]; e++)
-            if (!has_neighbor(g, g->nbr[e], (ng_index)i))
-                return ng_error_set(err, NG_ERR_INPUT,
-                                    "complex: neighbour graph is not "
-                                    "symmetric: %u lists %zu but not the "
-                                    "reverse",
-                                    (unsigned)g->nbr[e], i);
+    return check_symmetric(g, err);
     return NG_OK;
 }
 
@@ -203,7 +226,36 @@ typedef struct walk {
     size_t count[NG_COMPLEX_MAX_DIM + 1];   /* counting walk */
     ng_index *const *dest;                  /* filling walk: vert tables */
     size_t cursor[NG_COMPLEX_MAX_DIM + 1];
+    /* capped counting walk: stop once this thread's count plus what the
+     * other threads have published passes limit (0: no cap) */
+    size_t limit;
+    const size_t *published; /* shared running total (atomic reads) */
+    size_t mine;             /* this thread's part already published */
+    int stop;
 } walk;
+
+static size_t walk_total(const walk *wk)
+{
+    size_t t = 0;
+    for (int k = 1; k <= wk->top_dim; k++) t += wk->count[k];
+    return t;
+}
+
+/* Capped counting: nonzero when the walk must stop (checked once per
+ * candidate below the top level, where the work per step is an
+ * intersection of neighbour lists, so the check costs little). */
+static int walk_over(walk *wk)
+{
+    if (wk->limit == 0) return 0;
+    if (!wk->stop) {
+        size_t others;
+#pragma omp atomic read
+        others = *wk->published;
+        others -= wk->mine < others ? wk->mine : others;
+        if (walk_total(wk) + others > wk->limit) wk->stop = 1;
+    }
+    return wk->stop;
+}
 
 /* Number of entries of the sorted list a[0..len) below x. */
 static size_t count_below(const ng_index *a, size_t len, ng_index x)
@@ -226,7 +278,12 @@ static void descend(walk *wk, int level)
     if (level > NG_COMPLEX_MAX_DIM) return; /* never: level ≤ top_dim */
     const ng_index *cand = wk->cand[level];
     size_t ncand = wk->ncand[level];
+    if (wk->dest == NULL && level >= wk->top_dim) {
+        wk->count[level] += ncand; /* counting: the top level is a leaf */
+        return;
+    }
     for (size_t idx = 0; idx < ncand; idx++) {
+        if (walk_over(wk)) return;
         ng_index u = cand[idx];
         wk->chain[level] = u;
         if (wk->dest) {
@@ -322,7 +379,8 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
 }
 
 int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
-                        int threads, ng_complex_size *out, ng_error *err)
+                        size_t max_total, int threads, ng_complex_size *out,
+                        ng_error *err)
 {
     if (out) memset(out, 0, sizeof *out);
     if (out == NULL)
@@ -336,15 +394,42 @@ int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
         return ng_error_set(err, NG_ERR_NOMEM,
                             "complex: out of memory for the clique walk");
     size_t total[NG_COMPLEX_MAX_DIM + 1] = {0};
-    long long nv = (long long)graph->n;
+    /* vertices and edges are known from the graph: the walks may add the
+     * rest (limit 0 is no cap, needed only when there are no edges) */
+    size_t limit = 0, published = 0, edges = graph->offset[graph->n] / 2;
+    int over = 0;
+    if (max_total > 0) {
+        if (graph->n > max_total || edges > max_total - graph->n) {
+            over = 1;
+            total[1] = edges;
+        } else {
+            limit = max_total - graph->n;
+        }
+    }
+    long long nv = over ? 0 : (long long)graph->n;
 #pragma omp parallel num_threads(nt)
     {
         walk wk;
         walk_init(&wk, graph, top_dim, scratch, maxdeg, omp_get_thread_num());
+        wk.limit = limit;
+        wk.published = &published;
 #pragma omp for schedule(dynamic, 64)
-        for (long long w = 0; w < nv; w++) walk_from(&wk, (ng_index)w);
+        for (long long w = 0; w < nv; w++) {
+            if (wk.stop) continue;
+            walk_from(&wk, (ng_index)w);
+            if (limit > 0) {
+                size_t now = walk_total(&wk);
+#pragma omp atomic update
+                published += now - wk.mine;
+                wk.mine = now;
+                (void)walk_over(&wk);
+            }
+        }
 #pragma omp critical(ng_complex_estimate)
-        for (int k = 1; k <= top_dim; k++) total[k] += wk.count[k];
+        {
+            for (int k = 1; k <= top_dim; k++) total[k] += wk.count[k];
+            if (wk.stop) over = 1;
+        }
     }
     ng_free(scratch);
     total[0] = graph->n;
@@ -352,6 +437,7 @@ int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
         out->count[k] = total[k];
         out->total += total[k];
     }
+    out->over = over || (max_total > 0 && out->total > max_total);
     size_bytes(out, graph->n, graph->offset[graph->n], top_dim,
                n_filtrations);
     return NG_OK;

@@ -678,10 +678,44 @@ static int list_push(nbr_list *l, ng_index j, double d)
     return 1;
 }
 
-static int entry_by_index(const void *a, const void *b)
+/* Sorts a[0..n) by index (indices are distinct): quicksort on the median
+ * of three, insertion sort below 16 entries, recursing into the smaller
+ * part only. Typed and inlined: several times faster than qsort here,
+ * where neighbour lists of thousands are sorted per query. */
+static void sort_by_index(nbr_entry *a, size_t n)
 {
-    ng_index x = ((const nbr_entry *)a)->j, y = ((const nbr_entry *)b)->j;
-    return (x > y) - (x < y);
+    while (n > 16) {
+        nbr_entry *mid = a + n / 2, *last = a + n - 1, t;
+        if (mid->j < a->j) { t = *mid; *mid = *a; *a = t; }
+        if (last->j < a->j) { t = *last; *last = *a; *a = t; }
+        if (last->j < mid->j) { t = *last; *last = *mid; *mid = t; }
+        ng_index pivot = mid->j;
+        size_t i = 0, k = n - 1;
+        for (;;) {
+            while (a[i].j < pivot) i++;
+            while (a[k].j > pivot) k--;
+            if (i >= k) break;
+            t = a[i]; a[i] = a[k]; a[k] = t;
+            i++;
+            k--;
+        }
+        /* a[0..k] ≤ pivot ≤ a[k+1..n) */
+        size_t left = k + 1;
+        if (left < n - left) {
+            sort_by_index(a, left);
+            a += left;
+            n -= left;
+        } else {
+            sort_by_index(a + left, n - left);
+            n = left;
+        }
+    }
+    for (size_t i = 1; i < n; i++) {
+        nbr_entry x = a[i];
+        size_t r = i;
+        for (; r > 0 && a[r - 1].j > x.j; r--) a[r] = a[r - 1];
+        a[r] = x;
+    }
 }
 
 static ALWAYS_INLINE int within_query_in(ng_metric metric, const search *s,
@@ -785,9 +819,7 @@ static int within_run(const search *s, const double *radius,
                 break;
             }
             size_t len = blocks[b].len - start;
-            if (len > 1)
-                qsort(blocks[b].e + start, len, sizeof *blocks[b].e,
-                      entry_by_index);
+            sort_by_index(blocks[b].e + start, len);
             g.offset[self + 1] = len;
         }
     }

@@ -117,7 +117,7 @@ with tempfile.TemporaryDirectory() as tmp:
     expect("run over budget leaves no file", not os.path.exists(out))
     expect("run leaves no temporary file", os.listdir(tmp) == [], os.listdir(tmp))
     rc, _, err = run("run", good, "-o", out, "--radius", "knn:3", "--budget", "1M")
-    expect("run auto under a small budget", rc == 0 and "chosen to fit the memory budget" in err, err)
+    expect("run auto under a small budget", rc == 0 and "chosen to fit the budget" in err, err)
     expect("run wrote the file", os.path.exists(out))
 
 finish()

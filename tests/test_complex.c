@@ -230,7 +230,7 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
     ng_error err;
     ng_error_clear(&err);
     ng_complex_size size;
-    ck_assert_int_eq(ng_complex_estimate(&g, top, L, threads, &size, &err), NG_OK);
+    ck_assert_int_eq(ng_complex_estimate(&g, top, L, 0, threads, &size, &err), NG_OK);
     ng_complex *c;
     ck_assert_int_eq(ng_complex_build(&spec, &c, &err), NG_OK);
 
@@ -395,11 +395,82 @@ START_TEST(test_errors)
     ck_assert(strstr(err.message, "symmetric") != NULL);
     ng_complex_size sz;
     ng_error_clear(&err);
-    ck_assert_int_eq(ng_complex_estimate(&g, 2, 1, 1, &sz, &err), NG_ERR_INPUT);
+    ck_assert_int_eq(ng_complex_estimate(&g, 2, 1, 0, 1, &sz, &err), NG_ERR_INPUT);
     ck_assert_uint_eq(sz.total, 0);
     free(adj);
     csr_release(&g);
     ng_complex_free(NULL);
+}
+END_TEST
+
+/* Symmetry: removing either direction of any one edge of a symmetric graph
+ * is found, whichever list loses it (the first, a middle or the last). */
+START_TEST(test_asymmetric_anywhere)
+{
+    rng_state = 1234 + (unsigned long long)_i;
+    unsigned char *adj;
+    ng_csr g;
+    random_graph(14, 0.4, &adj, &g);
+    size_t edges = g.offset[g.n];
+    ck_assert_uint_gt(edges, 0);
+    size_t drop = (size_t)(rng_uniform() * (double)edges);
+    if (_i == 0) drop = 0;
+    if (_i == 1) drop = edges - 1;
+    ng_csr h = {g.n, malloc((g.n + 1) * sizeof(size_t)),
+                malloc(edges * sizeof(ng_index)), NULL};
+    size_t e = 0;
+    for (size_t i = 0; i < g.n; i++) {
+        h.offset[i] = e;
+        for (size_t q = g.offset[i]; q < g.offset[i + 1]; q++)
+            if (q != drop) h.nbr[e++] = g.nbr[q];
+    }
+    h.offset[g.n] = e;
+    ng_complex_size sz;
+    ng_error err;
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_complex_estimate(&g, 2, 1, 0, 1, &sz, &err), NG_OK);
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_complex_estimate(&h, 2, 1, 0, 1, &sz, &err),
+                     NG_ERR_INPUT);
+    ck_assert(strstr(err.message, "symmetric") != NULL);
+    free(adj);
+    csr_release(&g);
+    csr_release(&h);
+}
+END_TEST
+
+/* The capped count: at a cap of the exact total or more it is exact and not
+ * over; below it, it reports over with a partial total above the cap. */
+START_TEST(test_estimate_cap)
+{
+    rng_state = 555 + (unsigned long long)_i;
+    unsigned char *adj;
+    ng_csr g;
+    random_graph(60, 0.35, &adj, &g);
+    int top = 2 + _i % 3, threads = 1 + _i % 2;
+    ng_complex_size exact, capped;
+    ng_error err;
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_complex_estimate(&g, top, 1, 0, threads, &exact,
+                                         &err), NG_OK);
+    ck_assert(!exact.over);
+    size_t caps[] = {exact.total, exact.total + 1, exact.total - 1,
+                     exact.total / 3, g.n, 1};
+    for (size_t c = 0; c < sizeof caps / sizeof caps[0]; c++) {
+        ck_assert_int_eq(ng_complex_estimate(&g, top, 1, caps[c], threads,
+                                             &capped, &err), NG_OK);
+        if (caps[c] >= exact.total) {
+            ck_assert(!capped.over);
+            for (int k = 0; k <= top; k++)
+                ck_assert_uint_eq(capped.count[k], exact.count[k]);
+        } else {
+            ck_assert(capped.over);
+            ck_assert_uint_gt(capped.total, caps[c]);
+            ck_assert_uint_le(capped.total, exact.total);
+        }
+    }
+    free(adj);
+    csr_release(&g);
 }
 END_TEST
 
@@ -443,6 +514,8 @@ static Suite *complex_suite(void)
     tcase_add_loop_test(tc, test_cliques_random, 0, 10);
     tcase_add_test(tc, test_complete_graph);
     tcase_add_test(tc, test_errors);
+    tcase_add_loop_test(tc, test_asymmetric_anywhere, 0, 20);
+    tcase_add_loop_test(tc, test_estimate_cap, 0, 6);
     tcase_add_test(tc, test_allocation_failures);
     suite_add_tcase(s, tc);
     return s;

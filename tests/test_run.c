@@ -298,6 +298,77 @@ START_TEST(run_equals_textbook)
 }
 END_TEST
 
+/* The vertices and the cliques of 2..top + 1 vertices with Rips value ≤ T
+ * (the simplex tables hold every vertex), counted by brute force over all
+ * vertex lists. */
+static size_t count_within(const ng_space *space, int n, int top, double T)
+{
+    size_t count = 0;
+    ng_index v[5];
+    for (int m = 1; m <= top + 1 && m <= n; m++) {
+        for (int r = 0; r < m; r++) v[r] = (ng_index)r;
+        for (;;) {
+            if (m == 1 || ng_rips_value(space, v, m) <= T) count++;
+            int r = m - 1;
+            while (r >= 0 && v[r] == (ng_index)(n - m + r)) r--;
+            if (r < 0) break;
+            v[r]++;
+            for (int q = r + 1; q < m; q++) v[q] = v[q - 1] + 1;
+        }
+    }
+    return count;
+}
+
+/* The simplex budget: auto takes the largest scale whose complex has at
+ * most max_simplices simplices, to the search's relative 1e-4 — the
+ * complex at T fits, the one at T·(1 + 1e-4) does not (counted by brute
+ * force); a given T above it is refused naming a T that fits. */
+START_TEST(simplex_budget_is_the_largest_fit)
+{
+    unsigned long long state = 77 + (unsigned long long)_i;
+    int n = 40, dim = 2 + _i % 2;
+    double x[40 * 3];
+    for (int i = 0; i < n * dim; i++) x[i] = uniform01(&state);
+    ng_cloud *cloud = cloud_from_points(x, n, dim);
+    ng_scheme scheme;
+    ng_scheme_init(&scheme);
+    scheme.law = (ng_law)(_i % 3);
+    ng_error err;
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_radius_parse(_i % 2 ? "knn:3" : "uniform",
+                                     &scheme.rule, &err), NG_OK);
+    ng_radii radii;
+    ck_assert_int_eq(ng_radii_compute(cloud, &scheme, 1, &radii, &err), NG_OK);
+    ng_space space = {scheme.metric, scheme.law, cloud->n, cloud->dim,
+                      cloud->coords, NULL, radii.rho};
+    ng_run_options opt;
+    ng_run_options_init(&opt);
+    opt.max_degree = 1 + _i % 2;
+    opt.max_simplices = 300 + 97 * (size_t)_i;
+    opt.threads = 1 + _i % 2;
+    ng_run_result res;
+    ck_assert_msg(ng_run_compute(cloud, &radii, &scheme, &opt, &res, &err) ==
+                      NG_OK, "%s", err.message);
+    double T = res.scale_limit;
+    ck_assert(res.limited_by_budget);
+    size_t at = count_within(&space, n, opt.max_degree + 1, T);
+    size_t above = count_within(&space, n, opt.max_degree + 1, T * (1 + 1e-4));
+    ck_assert_uint_eq(res.size.total, at);
+    ck_assert_uint_le(at, opt.max_simplices);
+    ck_assert_uint_gt(above, opt.max_simplices);
+    ng_run_result_free(&res);
+
+    opt.scale_auto = 0;
+    opt.scale_limit = 2 * T;
+    ck_assert_int_eq(ng_run_compute(cloud, &radii, &scheme, &opt, &res, &err),
+                     NG_ERR_BUDGET);
+    ck_assert_msg(strstr(err.message, "simplex budget") != NULL, "%s",
+                  err.message);
+    ng_radii_free(&radii);
+    ng_cloud_free(cloud);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("run");
@@ -305,6 +376,9 @@ int main(void)
     tcase_set_timeout(tc, 600);
     tcase_add_loop_test(tc, run_equals_textbook, 0, 24);
     suite_add_tcase(s, tc);
+    TCase *tb = tcase_create("budget");
+    tcase_add_loop_test(tb, simplex_budget_is_the_largest_fit, 0, 12);
+    suite_add_tcase(s, tb);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
     int failed = srunner_ntests_failed(sr);

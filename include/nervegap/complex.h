@@ -65,6 +65,9 @@ typedef struct ng_complex_size {
                             filtration (an upper bound up to the growth of
                             the reduction's own columns); multiply by the
                             number of filtrations reduced at once */
+    int over;            /* ng_complex_estimate stopped counting past its
+                            max_total: the counts (and bytes) are lower
+                            bounds, the total exceeds max_total */
 } ng_complex_size;
 
 typedef struct ng_complex ng_complex;
@@ -72,12 +75,16 @@ typedef struct ng_complex ng_complex;
 /* Counts the cliques of graph per dimension 0..top_dim without storing them
  * and fills *out (count[k] = 0 above top_dim) with the bytes that
  * ng_complex_build and one filtration's reduction would need for
- * n_filtrations filtrations. The same graph checks as ng_complex_build.
+ * n_filtrations filtrations. With max_total > 0 the count stops soon after
+ * the total passes max_total (out->over = 1, the counts are then partial),
+ * so that asking whether a large complex fits costs about as much as
+ * counting max_total simplices. The same graph checks as ng_complex_build.
  * Returns NG_OK, NG_ERR_USAGE (bad arguments) or NG_ERR_INPUT (graph not
  * symmetric or not sorted, naming the vertex); *out is zeroed on error. */
 NG_API int ng_complex_estimate(const ng_csr *graph, int top_dim,
-                               int n_filtrations, int threads,
-                               ng_complex_size *out, ng_error *err);
+                               int n_filtrations, size_t max_total,
+                               int threads, ng_complex_size *out,
+                               ng_error *err);
 
 /* Enumerates the cliques, calls the value callback once per simplex of
  * dimension ≥ 1 and stores the monotone values. On success *out owns the

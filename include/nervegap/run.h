@@ -11,8 +11,10 @@
  *
  * Scale limit: a given T, or auto: the full scale (the first t at which one
  * sample point lies in every ball, so both complexes are cones) when the
- * complex up to it fits the memory budget, else the largest scale that
- * fits (found by bisection on the size estimate).
+ * complex up to it fits the budget, else the largest scale that fits
+ * (found by bisection on the size estimate, to a relative 1e-4). The
+ * budget is both a simplex count (max_simplices: the time a run takes) and
+ * memory (budget_bytes: what the complex and the reductions hold).
  */
 #ifndef NERVEGAP_RUN_H
 #define NERVEGAP_RUN_H
@@ -25,6 +27,10 @@
 #include "nervegap/radius.h"
 
 #define NG_RUN_MAX_SLICES 64
+
+/* The default simplex budget: what this engine turns into barcodes in
+ * about a minute on two cores (bench/README.md, "the main job"). */
+#define NG_RUN_DEFAULT_MAX_SIMPLICES ((size_t)20000000)
 
 typedef enum ng_slice_kind {
     NG_SLICE_NONE = 0,
@@ -41,6 +47,9 @@ typedef struct ng_run_options {
     int scale_auto;        /* nonzero: scale limit auto */
     double scale_limit;    /* T when !scale_auto */
     size_t budget_bytes;   /* memory the complex and reduction may use */
+    size_t max_simplices;  /* simplex budget: at most this many simplices
+                              (all dimensions, all of them with rips ≤ T);
+                              0: only the memory budget */
     ng_slice_kind slice_kind;
     int n_slices;
     double slice_values[NG_RUN_MAX_SLICES]; /* λ ≥ 1 or δ ≥ 0 */
@@ -50,8 +59,9 @@ typedef struct ng_run_options {
     void *progress_ctx;
 } ng_run_options;
 
-/* Defaults: D = 1, auto scale limit, half the physical memory, no slices,
- * a grid of 128 scales. */
+/* Defaults: D = 1, auto scale limit, a simplex budget of
+ * NG_RUN_DEFAULT_MAX_SIMPLICES and half the physical memory, no slices, a
+ * grid of 128 scales. */
 NG_API void ng_run_options_init(ng_run_options *opt);
 
 /* Parses "factor:1.02,1.05" or "shift:0.1,0.2" into opt (the text of
@@ -62,6 +72,10 @@ NG_API int ng_run_parse_slices(const char *text, ng_run_options *opt,
 /* Parses a memory size: "4G", "512M", "1.5GiB", "1000000" (bytes).
  * NG_ERR_USAGE naming --budget on error. */
 NG_API int ng_run_parse_budget(const char *text, size_t *out, ng_error *err);
+
+/* Parses a simplex count: "20000000", "2e7" or "0" (no simplex budget).
+ * NG_ERR_USAGE naming --max-simplices on error. */
+NG_API int ng_run_parse_count(const char *text, size_t *out, ng_error *err);
 
 typedef struct ng_run_result {
     double scale_limit;      /* T used */

@@ -28,12 +28,16 @@ static const char run_help[] =
     "  -o, --output OUT.h5     the results file (required)\n"
     "  --max-degree D          homology degrees 0..D (default 1, at most 4)\n"
     "  --scale-limit T|auto    cut the filtrations at scale T; auto (default):\n"
-    "                          the full scale if the complex fits --budget,\n"
-    "                          else the largest scale that fits\n"
+    "                          the full scale if the complex fits the budget\n"
+    "                          (--max-simplices and --budget), else the\n"
+    "                          largest scale that fits\n"
     "  --slices factor:L,..    also the slices max(rips, cech/L) (L ≥ 1), or\n"
     "  --slices shift:D,..     max(rips, cech - D) (D ≥ 0)\n"
     "  --grid G                per-scale statistics on G scales over\n"
     "                          [0, scale limit] (default 128)\n"
+    "  --max-simplices N       simplex budget: at most N simplices with\n"
+    "                          rips ≤ T, all dimensions (default 2e7, about\n"
+    "                          a minute on two cores; 0: memory only)\n"
     "  --budget SIZE           memory for the complex and the reduction, e.g.\n"
     "                          4G (default: half the physical memory)\n"
     "  --quiet                 no progress lines on stderr\n";
@@ -91,7 +95,8 @@ int cmd_run(int argc, char **argv)
 {
     scheme_flags f = {0};
     const char *output = NULL, *max_degree = NULL, *scale_limit = NULL,
-               *slices = NULL, *budget = NULL, *grid = NULL;
+               *slices = NULL, *budget = NULL, *grid = NULL,
+               *max_simplices = NULL;
     int quiet = 0;
     const cli_option table[] = {
         SCHEME_OPTIONS(f),
@@ -100,6 +105,7 @@ int cmd_run(int argc, char **argv)
         {"scale-limit", NULL, 1, &scale_limit, NULL},
         {"slices", NULL, 1, &slices, NULL},
         {"budget", NULL, 1, &budget, NULL},
+        {"max-simplices", NULL, 1, &max_simplices, NULL},
         {"grid", NULL, 1, &grid, NULL},
         {"quiet", NULL, 0, NULL, &quiet},
         {NULL, NULL, 0, NULL, NULL},
@@ -159,6 +165,8 @@ int cmd_run(int argc, char **argv)
         ng_run_parse_slices(slices, &opt, &err);
     if (err.code == NG_OK && budget)
         ng_run_parse_budget(budget, &opt.budget_bytes, &err);
+    if (err.code == NG_OK && max_simplices)
+        ng_run_parse_count(max_simplices, &opt.max_simplices, &err);
     if (err.code != NG_OK) return cli_fail("run", &err);
 
     progress_state prog = {quiet, {0, 0}};
@@ -195,9 +203,9 @@ int cmd_run(int argc, char **argv)
     }
     if (!quiet && result.limited_by_budget)
         fprintf(stderr,
-                "nervegap run: scale limit %.6g chosen to fit the memory "
-                "budget (the full scale is %s%.6g); bars alive there are "
-                "truncated\n",
+                "nervegap run: scale limit %.6g chosen to fit the budget "
+                "(--max-simplices, --budget; the full scale is %s%.6g); bars "
+                "alive there are truncated\n",
                 result.scale_limit, isnan(result.full_scale) ? "above " : "",
                 isnan(result.full_scale) ? result.scale_limit
                                          : result.full_scale);

@@ -1,0 +1,511 @@
+/* scale_limit.c — the scale limit of a run and the neighbour graph at it
+ * (scale_limit.h).
+ *
+ * Invariants: a graph holds exactly the pairs with Rips edge value ≤ its
+ * scale (the k-d tree query radius only pre-selects, the edge value
+ * decides); no probe keeps more pairs than a fitting complex could have, and
+ * no count goes far past the simplex budget, so probing a scale far above
+ * the budget costs about as much as one at it.
+ *
+ * How the search works. Whether the complex at t fits is monotone in t (the
+ * graph, hence every clique set, only grows). From a start scale (the
+ * median Rips value of the edge to each point's nearest neighbour) the
+ * search doubles or halves until it brackets the budget, then bisects the
+ * bracket [fits, does not fit] 14 times (a relative width of 6e-5). A probe
+ * builds the graph at t and counts its cliques, stopping past the budget
+ * (ng_complex_estimate's max_total). The smallest complete graph that did
+ * not fit is kept: every later probe lies below its scale, so its graph is
+ * that one filtered by edge value — no k-d tree search and no sort.
+ */
+#include "scale_limit.h"
+
+#include "alloc.h"
+#include "nervegap/distance.h"
+
+#include <math.h>
+#include <omp.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define BISECTION_STEPS 14 /* bracket [t, 2t] → relative width 6e-5 */
+
+typedef struct search {
+    const ng_space *space;
+    const ng_run_options *opt;
+    int L;                /* filtrations */
+    size_t count_cap;     /* more simplices than this never fit */
+    size_t pair_cap;      /* more directed pairs than this never fit */
+    ng_csr upper;         /* complete graph at upper_scale, or offset NULL */
+    double upper_scale;
+} search;
+
+typedef struct probe {
+    int status;            /* NG_OK */
+    int fits;
+    int over_count;        /* more simplices than the simplex budget */
+    ng_complex_size size;  /* partial when size.over */
+    size_t bytes;          /* graph + complex + reductions (a lower bound
+                              when size.over; SIZE_MAX: the graph alone
+                              exceeds the memory budget) */
+} probe;
+
+static void report(const ng_run_options *opt, double f)
+{
+    if (opt->progress) opt->progress("scale limit", f, opt->progress_ctx);
+}
+
+/* ---- the neighbour graph at a scale ---- */
+
+typedef struct graph_ctx {
+    const ng_space *space;
+    double scale;      /* T */
+    size_t cap;        /* keep at most this many directed pairs */
+    size_t kept;       /* directed pairs kept so far (atomic) */
+    int over;          /* set when the cap was reached */
+} graph_ctx;
+
+static int keep_edge(size_t i, size_t j, double d, void *opaque)
+{
+    graph_ctx *g = opaque;
+    const double *rho = g->space->rho;
+    if (!(ng_rips_edge_value(g->space->law, rho[i], rho[j], d) <= g->scale))
+        return 0;
+    size_t kept;
+#pragma omp atomic capture
+    kept = g->kept++;
+    if (kept >= g->cap) {
+#pragma omp atomic write
+        g->over = 1;
+        return 0;
+    }
+    return 1;
+}
+
+static int graph_nomem(ng_csr *out, ng_error *err)
+{
+    ng_csr_free(out);
+    return ng_error_set(err, NG_ERR_NOMEM,
+                        "out of memory for the neighbour graph");
+}
+
+/* The pairs of a distance matrix (or of the graph from, when not NULL)
+ * that g keeps, in two passes: count, then fill. */
+static int graph_by_rows(const ng_space *s, const ng_csr *from, graph_ctx *g,
+                         ng_csr *out, ng_error *err)
+{
+    size_t n = s->n;
+    out->n = n;
+    out->offset = ng_calloc(n + 1, sizeof *out->offset);
+    if (out->offset == NULL) return graph_nomem(out, err);
+    for (int pass = 0; pass < 2; pass++) {
+        size_t pos = 0;
+        g->kept = 0;
+        for (size_t i = 0; i < n; i++) {
+            size_t e0 = from ? from->offset[i] : 0;
+            size_t e1 = from ? from->offset[i + 1] : n;
+            for (size_t e = e0; e < e1; e++) {
+                size_t j = from ? from->nbr[e] : e;
+                double d = from ? from->dist[e] : s->dist[i * n + j];
+                if (j == i || !keep_edge(i, j, d, g)) continue;
+                if (pass == 1) {
+                    out->nbr[pos] = (ng_index)j;
+                    out->dist[pos] = d;
+                }
+                pos++;
+            }
+            if (pass == 0) out->offset[i + 1] = pos;
+        }
+        if (g->over) return NG_OK;
+        if (pass == 0) {
+            out->nbr = ng_malloc(pos, sizeof *out->nbr);
+            out->dist = ng_malloc(pos, sizeof *out->dist);
+            if (out->nbr == NULL || out->dist == NULL)
+                return graph_nomem(out, err);
+        }
+    }
+    return NG_OK;
+}
+
+/* Builds the graph of pairs with edge value ≤ T, keeping at most
+ * se->pair_cap directed pairs; *over tells whether the cap was hit (the
+ * graph is then incomplete and freed). */
+static int graph_at(search *se, double T, ng_csr *out, int *over,
+                    ng_error *err)
+{
+    const ng_space *s = se->space;
+    graph_ctx g = {s, T, se->pair_cap, 0, 0};
+    int status;
+    memset(out, 0, sizeof *out);
+    *over = 0;
+    if (se->upper.offset != NULL && T <= se->upper_scale)
+        status = graph_by_rows(s, &se->upper, &g, out, err);
+    else if (s->metric == NG_METRIC_GIVEN)
+        status = graph_by_rows(s, NULL, &g, out, err);
+    else {
+        double *radius = ng_malloc(s->n, sizeof *radius);
+        if (radius == NULL) return graph_nomem(out, err);
+        double r_max = 0.0;
+        for (size_t i = 0; i < s->n; i++) {
+            radius[i] = ng_law_radius(s->law, s->rho[i], T);
+            if (radius[i] > r_max) r_max = radius[i];
+        }
+        /* a kept pair has d ≤ r_i(T) + r_j(T) ≤ r_i(T) + r_max(T); the
+         * slack covers rounding, the edge value decides exactly */
+        for (size_t i = 0; i < s->n; i++)
+            radius[i] = (radius[i] + r_max) * (1.0 + 1e-12) + 1e-300;
+        status = ng_neighbors_within(s->coords, s->n, s->dim, s->metric,
+                                     radius, keep_edge, &g, se->opt->threads,
+                                     out, err);
+        ng_free(radius);
+    }
+    if (status == NG_OK && g.over) {
+        ng_csr_free(out);
+        *over = 1;
+    }
+    return status;
+}
+
+/* ---- probes ---- */
+
+static size_t graph_bytes(size_t directed_pairs, size_t n)
+{
+    return directed_pairs * (sizeof(ng_index) + sizeof(double)) +
+           (n + 1) * sizeof(size_t);
+}
+
+/* Size of the complex at T. Keeps the graph in *keep when it fits and keep
+ * is not NULL; keeps a complete graph that does not fit as the search's
+ * upper graph when it is the lowest such so far. */
+static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
+{
+    const ng_run_options *opt = se->opt;
+    probe p = {NG_OK, 0, 0, {{0}, 0, 0, 0, 0}, 0};
+    int team = opt->threads > 0 ? opt->threads : 1;
+    size_t reductions = (size_t)(se->L < team ? se->L : team);
+    ng_csr g;
+    int over = 0;
+    p.status = graph_at(se, T, &g, &over, err);
+    if (p.status != NG_OK) return p;
+    if (over) {
+        /* more edges than the simplex budget, or than the memory holds */
+        p.over_count = opt->max_simplices > 0 &&
+                       se->pair_cap / 2 >= opt->max_simplices;
+        p.size.over = 1;
+        p.bytes = p.over_count ? 0 : SIZE_MAX;
+        return p;
+    }
+    p.status = ng_complex_estimate(&g, opt->max_degree + 1, se->L,
+                                   se->count_cap, opt->threads, &p.size, err);
+    if (p.status != NG_OK) {
+        ng_csr_free(&g);
+        return p;
+    }
+    p.bytes = graph_bytes(g.offset[g.n], g.n) + p.size.bytes_build;
+    if (p.size.bytes_reduce > 0 &&
+        reductions > (SIZE_MAX - p.bytes) / p.size.bytes_reduce)
+        p.bytes = SIZE_MAX;
+    else
+        p.bytes += reductions * p.size.bytes_reduce;
+    p.over_count = opt->max_simplices > 0 &&
+                   (p.size.over || p.size.total > opt->max_simplices);
+    p.fits = !p.size.over && !p.over_count && p.bytes <= opt->budget_bytes;
+    if (p.fits && keep) {
+        *keep = g;
+    } else if (!p.fits &&
+               (se->upper.offset == NULL || T < se->upper_scale)) {
+        ng_csr_free(&se->upper);
+        se->upper = g;
+        se->upper_scale = T;
+    } else {
+        ng_csr_free(&g);
+    }
+    return p;
+}
+
+/* ---- the search ---- */
+
+double ng_scale_limit_full(const ng_space *s, int threads)
+{
+    size_t n = s->n;
+    double best = INFINITY;
+    int team = threads > 0 ? threads : omp_get_max_threads();
+    /* a candidate is abandoned as soon as its running max reaches the best
+     * value found so far, which cannot change the minimum */
+#pragma omp parallel for schedule(dynamic, 64) num_threads(team)
+    for (size_t c = 0; c < n; c++) {
+        double bound;
+#pragma omp atomic read
+        bound = best;
+        double worst = 0.0;
+        for (size_t i = 0; i < n && worst < bound; i++) {
+            double d = s->metric == NG_METRIC_GIVEN
+                           ? s->dist[c * n + i]
+                           : ng_metric_distance(s->metric,
+                                                s->coords + c * s->dim,
+                                                s->coords + i * s->dim,
+                                                s->dim);
+            double t = ng_law_reach(s->law, s->rho[i], d);
+            if (t > worst) worst = t;
+        }
+        if (worst < bound) {
+#pragma omp critical(ng_full_scale)
+            if (worst < best) best = worst;
+        }
+    }
+    return best;
+}
+
+/* Number of simplices of the complete complex on n vertices up to
+ * dimension top (saturating). */
+static double complete_count(size_t n, int top)
+{
+    double total = 0.0, c = 1.0;
+    for (int k = 0; k <= top; k++) {
+        c = c * (double)(n - (size_t)k) / (double)(k + 1); /* C(n, k+1) */
+        total += c;
+        if ((size_t)k + 1 >= n) break;
+    }
+    return total;
+}
+
+static int double_cmp(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* A positive starting scale for the search: the median over points of the
+ * Rips edge value to the nearest other point (its own birth if larger). */
+static int start_scale(const ng_space *s, int threads, double *out,
+                       ng_error *err)
+{
+    size_t n = s->n;
+    double *near = ng_malloc(n, sizeof *near);
+    ng_index *idx = ng_malloc(n, sizeof *idx);
+    int status = NG_OK;
+    if (near == NULL || idx == NULL) {
+        status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
+        goto cleanup;
+    }
+    if (s->metric == NG_METRIC_GIVEN) {
+        for (size_t i = 0; i < n; i++) {
+            double best = INFINITY;
+            size_t arg = i == 0 ? 1 : 0;
+            for (size_t j = 0; j < n; j++)
+                if (j != i && s->dist[i * n + j] < best) {
+                    best = s->dist[i * n + j];
+                    arg = j;
+                }
+            near[i] = best;
+            idx[i] = (ng_index)arg;
+        }
+    } else {
+        status = ng_knn_all(s->coords, n, s->dim, s->metric, 1, threads,
+                            near, idx, err);
+        if (status != NG_OK) goto cleanup;
+    }
+    for (size_t i = 0; i < n; i++)
+        near[i] = ng_rips_edge_value(s->law, s->rho[i], s->rho[idx[i]],
+                                     near[i]);
+    qsort(near, n, sizeof *near, double_cmp);
+    *out = near[n / 2];
+cleanup:
+    ng_free(near);
+    ng_free(idx);
+    return status;
+}
+
+/* Finds a bracket [lo fits, hi does not] by doubling or halving from the
+ * start scale, never above cap (known not to fit, or +inf). */
+static int bracket_fit(search *se, double cap, double *lo, double *hi,
+                       ng_error *err)
+{
+    double t = 0.0;
+    int status = start_scale(se->space, se->opt->threads, &t, err);
+    if (status != NG_OK) return status;
+    if (!(t > 0.0) || !isfinite(t)) t = isfinite(cap) ? cap / 1024.0 : 1.0;
+    if (t >= cap) t = 0.5 * cap;
+    probe p = probe_at(se, t, NULL, err);
+    if (p.status != NG_OK) return p.status;
+    int rounds = 0;
+    if (p.fits) {
+        *lo = t;
+        for (;;) {
+            double next = 2.0 * t;
+            if (next >= cap || rounds++ > 200) {
+                *hi = cap;
+                return NG_OK;
+            }
+            p = probe_at(se, next, NULL, err);
+            if (p.status != NG_OK) return p.status;
+            if (!p.fits) {
+                *hi = next;
+                return NG_OK;
+            }
+            *lo = t = next;
+        }
+    }
+    *hi = t;
+    for (;;) {
+        double next = 0.5 * t;
+        if (rounds++ > 200 || next == 0.0) {
+            *lo = 0.0;
+            return NG_OK;
+        }
+        p = probe_at(se, next, NULL, err);
+        if (p.status != NG_OK) return p.status;
+        if (p.fits) {
+            *lo = next;
+            return NG_OK;
+        }
+        *hi = t = next;
+    }
+}
+
+/* The largest scale in [lo, hi] (lo fits, hi does not) that fits. */
+static int bisect_fit(search *se, double lo, double hi, double *out,
+                      ng_error *err)
+{
+    for (int step = 0; step < BISECTION_STEPS && hi - lo > 1e-12 * hi;
+         step++) {
+        double mid = 0.5 * (lo + hi);
+        probe p = probe_at(se, mid, NULL, err);
+        if (p.status != NG_OK) return p.status;
+        if (p.fits) lo = mid;
+        else hi = mid;
+        report(se->opt, 0.5 + 0.49 * (step + 1) / BISECTION_STEPS);
+    }
+    *out = lo;
+    return NG_OK;
+}
+
+/* The largest scale below cap that fits. */
+static int largest_fit(search *se, double cap, double *fit, ng_error *err)
+{
+    double lo, hi;
+    int status = bracket_fit(se, cap, &lo, &hi, err);
+    if (status == NG_OK) status = bisect_fit(se, lo, hi, fit, err);
+    return status;
+}
+
+static void size_text(size_t bytes, char *buf, size_t size)
+{
+    if (bytes == SIZE_MAX) snprintf(buf, size, "more than the budget");
+    else if (bytes >= ((size_t)1 << 30))
+        snprintf(buf, size, "%.1f GiB", (double)bytes / (1 << 30));
+    else snprintf(buf, size, "%.1f MiB", (double)bytes / (1 << 20));
+}
+
+/* The error for a given T that does not fit (probe p), naming the budget
+ * it exceeds and a T that fits. */
+static int refuse_scale(double T, const probe *p, const ng_run_options *opt,
+                        double fit, ng_error *err)
+{
+    char need[64], have[64];
+    size_text(p->bytes, need, sizeof need);
+    size_text(opt->budget_bytes, have, sizeof have);
+    if (p->over_count)
+        return ng_error_set(err, NG_ERR_BUDGET,
+                            "--scale-limit %.17g: the complex would have "
+                            "more than %zu simplices, the simplex budget; "
+                            "--scale-limit %.6g would fit (or raise "
+                            "--max-simplices or lower --max-degree)",
+                            T, opt->max_simplices, fit);
+    if (p->bytes == SIZE_MAX)
+        return ng_error_set(err, NG_ERR_BUDGET,
+                            "--scale-limit %.17g: the neighbour graph alone "
+                            "exceeds the memory budget of %s; --scale-limit "
+                            "%.6g would fit (or raise --budget)",
+                            T, have, fit);
+    if (p->size.over)
+        return ng_error_set(err, NG_ERR_BUDGET,
+                            "--scale-limit %.17g: the complex would have "
+                            "more than %zu simplices and need more than the "
+                            "memory budget of %s; --scale-limit %.6g would "
+                            "fit (or raise --budget or lower --max-degree)",
+                            T, p->size.total, have, fit);
+    return ng_error_set(err, NG_ERR_BUDGET,
+                        "--scale-limit %.17g: the complex would have %zu "
+                        "simplices and need %s, more than the memory "
+                        "budget of %s; --scale-limit %.6g would fit (or "
+                        "raise --budget or lower --max-degree)",
+                        T, p->size.total, need, have, fit);
+}
+
+/* Chooses T and builds the graph at T into *graph. */
+static int choose(search *se, ng_scale_choice *out, ng_csr *graph,
+                  ng_error *err)
+{
+    const ng_run_options *opt = se->opt;
+    const ng_space *s = se->space;
+    double fit;
+    int status;
+    if (!opt->scale_auto) {
+        double T = opt->scale_limit;
+        probe p = probe_at(se, T, graph, err);
+        if (p.status != NG_OK) return p.status;
+        if (p.fits) {
+            out->scale_limit = T;
+            out->size = p.size;
+            return NG_OK;
+        }
+        status = largest_fit(se, T, &fit, err);
+        if (status != NG_OK) return status;
+        return refuse_scale(T, &p, opt, fit, err);
+    }
+    double cap = INFINITY;
+    /* at the full scale every ball holds one sample point, so the complex
+     * is complete: skip the O(n²) full scale when that cannot fit */
+    if (complete_count(s->n, opt->max_degree + 1) <= (double)se->count_cap) {
+        out->full_scale = ng_scale_limit_full(s, opt->threads);
+        report(opt, 0.25);
+        probe p = probe_at(se, out->full_scale, graph, err);
+        if (p.status != NG_OK) return p.status;
+        if (p.fits) {
+            out->scale_limit = out->full_scale;
+            out->size = p.size;
+            return NG_OK;
+        }
+        cap = out->full_scale;
+    }
+    status = largest_fit(se, cap, &fit, err);
+    if (status != NG_OK) return status;
+    probe p = probe_at(se, fit, graph, err);
+    if (p.status != NG_OK) return p.status;
+    if (!p.fits)
+        return ng_error_set(err, NG_ERR_BUDGET,
+                            "no positive scale fits the budget of %zu "
+                            "simplices and %zu bytes (raise --max-simplices "
+                            "or --budget)",
+                            opt->max_simplices, opt->budget_bytes);
+    out->scale_limit = fit;
+    out->size = p.size;
+    out->limited_by_budget = 1;
+    return NG_OK;
+}
+
+int ng_scale_limit_choose(const ng_space *s, const ng_run_options *opt, int L,
+                          ng_scale_choice *out, ng_csr *graph, ng_error *err)
+{
+    memset(out, 0, sizeof *out);
+    memset(graph, 0, sizeof *graph);
+    out->full_scale = NAN;
+    /* a simplex costs at least its top vertex and one value per filtration;
+     * a directed pair at least 16 bytes (12 in the graph, 4 in the
+     * complex's copy), and two directed pairs are one edge, a simplex */
+    size_t per = sizeof(ng_index) + (size_t)L * sizeof(double);
+    search se = {s, opt, L, opt->budget_bytes / per, opt->budget_bytes / 16,
+                 {0}, 0.0};
+    if (opt->max_simplices > 0 && opt->max_simplices < se.count_cap)
+        se.count_cap = opt->max_simplices;
+    if (se.count_cap == 0) se.count_cap = 1;
+    if (se.count_cap <= SIZE_MAX / 2 && 2 * se.count_cap < se.pair_cap)
+        se.pair_cap = 2 * se.count_cap;
+    report(opt, 0.0);
+    int status = choose(&se, out, graph, err);
+    ng_csr_free(&se.upper);
+    if (status != NG_OK) ng_csr_free(graph);
+    report(opt, 1.0);
+    return status;
+}
