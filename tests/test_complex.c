@@ -226,7 +226,7 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
     double *vv = malloc(n * (size_t)L * sizeof *vv);
     for (size_t i = 0; i < n * (size_t)L; i++) vv[i] = rng_uniform();
     counting_ctx cc = {.L = L};
-    ng_complex_spec spec = {&g, top, L, vv, 0.5, counting_value, &cc, threads};
+    ng_complex_spec spec = {&g, top, L, vv, 0.5, counting_value, &cc, threads, NULL, NULL};
     ng_error err;
     ng_error_clear(&err);
     ng_complex_size size;
@@ -349,7 +349,7 @@ START_TEST(test_errors)
     random_graph(10, 0.5, &adj, &g);
     double vv[10] = {0};
     counting_ctx cc = {.L = 1};
-    ng_complex_spec spec = {&g, 2, 1, vv, 1.0, counting_value, &cc, 1};
+    ng_complex_spec spec = {&g, 2, 1, vv, 1.0, counting_value, &cc, 1, NULL, NULL};
     ng_error err;
     ng_complex *c = (ng_complex *)1;
 
@@ -411,7 +411,7 @@ START_TEST(test_allocation_failures)
     random_graph(12, 0.6, &adj, &g);
     double vv[24] = {0};
     counting_ctx cc = {.L = 2};
-    ng_complex_spec spec = {&g, 3, 2, vv, 1.0, counting_value, &cc, 2};
+    ng_complex_spec spec = {&g, 3, 2, vv, 1.0, counting_value, &cc, 2, NULL, NULL};
     int succeeded = 0;
     for (long after = 0; after < 200 && !succeeded; after++) {
         ng_error err;
