@@ -649,8 +649,9 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
     if (status != NG_OK) goto cleanup;
     report(&o, "reduction", 1.0);
     report(&o, "grid", 0.0);
-    status = ng_grid_compute(complex, out->persistence, o.grid, &out->grid,
-                             err);
+    status = ng_grid_compute_progress(complex, out->persistence, o.grid,
+                                      o.progress, o.progress_ctx, &out->grid,
+                                      err);
     if (status != NG_OK) goto cleanup;
     report(&o, "grid", 1.0);
     report(&o, "divergence", 0.0);

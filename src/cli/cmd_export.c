@@ -35,7 +35,8 @@ static const char export_help[] =
 
 static void csv_vertices(const int64_t *v, int count)
 {
-    for (int i = 0; i < count; i++) printf(i ? " %lld" : "%lld", (long long)v[i]);
+    for (int i = 0; i < count; i++)
+        printf(i ? " %lld" : "%lld", (long long)v[i]);
 }
 
 static void bars_csv(const ng_results *r)
@@ -164,9 +165,11 @@ static void grid_csv(const ng_results *r)
     for (size_t i = 0; i < g->G; i++) {
         out_csv_number(stdout, g->scale[i]);
         for (int k = 0; k < w0; k++)
-            printf(",%lld", (long long)g->betti_cech[i * (size_t)w0 + (size_t)k]);
+            printf(",%lld",
+                   (long long)g->betti_cech[i * (size_t)w0 + (size_t)k]);
         for (int k = 0; k < w0; k++)
-            printf(",%lld", (long long)g->betti_rips[i * (size_t)w0 + (size_t)k]);
+            printf(",%lld",
+                   (long long)g->betti_rips[i * (size_t)w0 + (size_t)k]);
         for (int k = 0; k < w1; k++)
             printf(",%lld",
                    (long long)g->simplices_cech[i * (size_t)w1 + (size_t)k]);

@@ -11,9 +11,8 @@
 #include "progress.h"
 #include "scheme_flags.h"
 
-#include <limits.h>
-
 #include <errno.h>
+#include <limits.h>
 #include <math.h>
 #include <signal.h>
 #include <stdio.h>
