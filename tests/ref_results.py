@@ -342,9 +342,12 @@ with tempfile.TemporaryDirectory() as tmp:
         expect("show: input digest", attr_value(f["input"].attrs["sha256"]) in text)
 
     # distance through the reader: a file against itself is 0
-    rc, o, err = run(NERVEGAP, "distance", out, out, "--json")
-    expect("distance of a file to itself is 0", rc == 0 and all(
-        r["bottleneck"] == 0 for r in json.loads(o)["degrees"]), o + err)
+    odd = os.path.join(tmp, 'a "quoted" name.h5')
+    shutil.copy(out, odd)
+    rc, o, err = run(NERVEGAP, "distance", out, odd, "--json")
+    doc = json.loads(o) if rc == 0 else {}
+    expect("distance of a file to its copy is 0, names escaped in JSON", rc == 0 and doc["b"] == odd and all(
+        r["bottleneck"] == 0 for r in doc["degrees"]), o + err)
 
     # ---- an unwritable output fails before the input is read ----
     big = os.path.join(tmp, "big.csv")

@@ -7,6 +7,7 @@
 #include "args.h"
 #include "nervegap/distance.h"
 #include "nervegap/results.h"
+#include "output.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -104,13 +105,17 @@ int cmd_distance(int argc, char **argv)
         code = cli_fail("distance", &err);
         goto cleanup;
     }
-    if (json)
-        printf("{\"a\": \"%s\", \"b\": \"%s\", \"complex\": \"%s\", "
-               "\"degrees\": [", pa, pb, group);
-    else
+    if (json) {
+        printf("{\"a\": ");
+        out_json_string(stdout, pa);
+        printf(", \"b\": ");
+        out_json_string(stdout, pb);
+        printf(", \"complex\": \"%s\", \"degrees\": [", group);
+    } else {
         printf("%-6s %8s %8s %12s %12s %12s\n", "degree", "bars A", "bars B",
                want_p[0] ? "bottleneck" : "", want_p[1] ? "wasserstein1" : "",
                want_p[2] ? "wasserstein2" : "");
+    }
     const char *note = NULL;
     for (int k = k0; k <= k1; k++) {
         const double *a = ga->bars[k].interval, *b = gb->bars[k].interval;
