@@ -195,7 +195,7 @@ static int run_case(cloud *cl, int D, double T, int L, int threads)
     ng_csr g;
     if (grid_graph(cl, 2 * T, &g) != 0) return 1;
     double *vv = calloc(cl->n * (size_t)L, sizeof *vv);
-    ng_complex_spec spec = {&g, D + 1, L, vv, T, rips_values, cl, threads};
+    ng_complex_spec spec = {&g, D + 1, L, vv, T, rips_values, cl, threads, NULL, NULL};
     ng_error err;
     ng_error_clear(&err);
     ng_complex *c = NULL;

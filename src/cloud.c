@@ -137,8 +137,10 @@ int ng_cloud_read(const char *spec, ng_cloud **out, ng_error *err)
     c->dim = t.cols;
     c->coords = t.values;
     c->names = t.names;
+    c->file = file;
     t.values = NULL;
     t.names = NULL;
+    file = NULL;
     *out = c;
 
 cleanup:
@@ -227,7 +229,9 @@ int ng_cloud_read_distances(const char *spec, ng_cloud **out, ng_error *err)
     c->n = t.rows;
     c->dim = 0;
     c->dist = t.values;
+    c->file = file;
     t.values = NULL;
+    file = NULL;
     *out = c;
 
 cleanup:
@@ -289,5 +293,6 @@ void ng_cloud_free(ng_cloud *cloud)
     ng_free(cloud->coords);
     ng_free(cloud->dist);
     ng_free(cloud->source);
+    ng_free(cloud->file);
     ng_free(cloud);
 }

@@ -562,8 +562,16 @@ void ng_complex_free(ng_complex *c)
 /* Values of the k-simplices (k ≥ 1) in parallel: one callback per simplex,
  * raised to the max over facets. Returns NG_OK or the first failure in
  * position order (so the message does not depend on the schedule). */
+/* Progress of the value pass: base + span · (simplices done / total). */
+typedef struct value_progress {
+    double base, span, total;
+    long long done; /* shared, updated atomically */
+} value_progress;
+
+#define VALUE_PROGRESS_STEP 4096
+
 static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
-                          int nt, ng_error *err)
+                          int nt, value_progress *vp, ng_error *err)
 {
     int L = c->n_filtrations;
     size_t cnt = c->count[k], below = c->count[k - 1];
@@ -577,8 +585,21 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
 #pragma omp parallel num_threads(nt)
     {
         double *val = scratch + (size_t)omp_get_thread_num() * (size_t)L;
+        long long mine = 0;
 #pragma omp for schedule(dynamic, 256)
         for (long long p = 0; p < total; p++) {
+            if (spec->progress && ++mine == VALUE_PROGRESS_STEP) {
+                long long done;
+#pragma omp atomic capture
+                done = vp->done += mine;
+                mine = 0;
+                /* the calling thread is thread 0 of the team */
+                if (omp_get_thread_num() == 0 && vp->total > 0.0)
+                    spec->progress("simplices",
+                                   vp->base + vp->span * (double)done /
+                                                  vp->total,
+                                   spec->progress_ctx);
+            }
             const ng_index *v = c->vert[k] + (size_t)p * (size_t)(k + 1);
             int st = spec->value(v, k + 1, val, spec->ctx), nan = 0;
             for (int j = 0; j < L && st == 0; j++)
@@ -720,14 +741,20 @@ int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
     }
     ng_free(scratch);
     scratch = NULL;
+    if (spec->progress) spec->progress("simplices", 0.05, spec->progress_ctx);
 
     /* values, dimension by dimension (facets first) */
     for (int j = 0; j < L; j++)
         for (size_t i = 0; i < n; i++)
             c->value[0][(size_t)j * n + i] =
                 spec->vertex_values[i * (size_t)L + (size_t)j];
+    /* progress: the walks are about a tenth of the time, the values the
+     * rest (common practice for an estimate, not measured per case) */
+    value_progress vp = {0.1, 0.9, 0.0, 0};
+    for (int k = 1; k <= top; k++) vp.total += (double)c->count[k];
+    if (spec->progress) spec->progress("simplices", 0.1, spec->progress_ctx);
     for (int k = 1; k <= top; k++) {
-        status = compute_values(c, k, spec, nt, err);
+        status = compute_values(c, k, spec, nt, &vp, err);
         if (status != NG_OK) goto fail;
     }
     for (int j = 0; j < L; j++)

@@ -167,6 +167,13 @@ cleanup:
 int ng_grid_compute(const ng_complex *c, const ng_persistence *p, size_t G,
                     ng_grid *out, ng_error *err)
 {
+    return ng_grid_compute_progress(c, p, G, NULL, NULL, out, err);
+}
+
+int ng_grid_compute_progress(const ng_complex *c, const ng_persistence *p,
+                             size_t G, ng_progress_fn progress, void *ctx,
+                             ng_grid *out, ng_error *err)
+{
     memset(out, 0, sizeof *out);
     if (G < 2 || G > ((size_t)1 << 24))
         return ng_error_set(err, NG_ERR_USAGE,
@@ -225,6 +232,8 @@ int ng_grid_compute(const ng_complex *c, const ng_persistence *p, size_t G,
         }
     }
     if (out->factor_bound < 1.0) out->factor_bound = 1.0;
+    /* the two sorts below are most of the time */
+    if (progress) progress("grid", 0.2, ctx);
 
     /* factor and shift statistics over dimension ≥ 2 */
     size_t total = 0;
@@ -257,8 +266,10 @@ int ng_grid_compute(const ng_complex *c, const ng_persistence *p, size_t G,
         }
     }
     if (order_statistics(factor, first_f, nf, G, 1.0, out->factor_max,
-                         out->factor_q50, out->factor_q90) != NG_OK ||
-        order_statistics(shift, first_s, ns, G, 0.0, out->shift_max,
+                         out->factor_q50, out->factor_q90) != NG_OK)
+        goto nomem;
+    if (progress) progress("grid", 0.6, ctx);
+    if (order_statistics(shift, first_s, ns, G, 0.0, out->shift_max,
                          out->shift_q50, out->shift_q90) != NG_OK)
         goto nomem;
     goto done;

@@ -650,6 +650,13 @@ void ng_persistence_free(ng_persistence *p)
 int ng_persistence_compute(const ng_complex *c, int threads,
                            ng_persistence **out, ng_error *err)
 {
+    return ng_persistence_compute_progress(c, threads, NULL, NULL, out, err);
+}
+
+int ng_persistence_compute_progress(const ng_complex *c, int threads,
+                                    ng_progress_fn progress, void *ctx,
+                                    ng_persistence **out, ng_error *err)
+{
     if (out) *out = NULL;
     if (c == NULL || out == NULL)
         return ng_error_set(err, NG_ERR_USAGE,
@@ -667,15 +674,24 @@ int ng_persistence_compute(const ng_complex *c, int threads,
      * threads inside each (the apparent-pair pass); otherwise one thread
      * per filtration. */
     int nt = threads > 0 ? threads : omp_get_max_threads();
-    int failed = 0;
+    int failed = 0, done = 0;
     if (L < nt) {
-        for (int j = 0; j < L && !failed; j++)
+        for (int j = 0; j < L && !failed; j++) {
             if (!reduce_filtration(c, j, nt, &p->diagram[j])) failed = 1;
+            if (progress) progress("reduction", (j + 1.0) / L, ctx);
+        }
     } else {
 #pragma omp parallel for num_threads(nt) schedule(dynamic, 1) \
     reduction(| : failed)
-        for (int j = 0; j < L; j++)
+        for (int j = 0; j < L; j++) {
             if (!reduce_filtration(c, j, 1, &p->diagram[j])) failed = 1;
+            int now;
+#pragma omp atomic capture
+            now = ++done;
+            /* only the calling thread (thread 0) reports */
+            if (progress && omp_get_thread_num() == 0)
+                progress("reduction", (double)now / L, ctx);
+        }
     }
     if (failed) goto nomem;
     *out = p;

@@ -1,4 +1,5 @@
-/* results.c — writes the HDF5 results file of results.h.
+/* results.c — writes the HDF5 results file of results.h (the reader is
+ * results_load.c).
  *
  * Invariants: nothing exists at the final path until ng_results_commit has
  * written and closed every dataset; the temporary file lives in the same
@@ -17,12 +18,22 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 #include <unistd.h>
 
 struct ng_results_file {
     char *final_path;
     char *temp_path;
+    ng_progress_fn progress;
+    void *progress_ctx;
 };
+
+void ng_results_set_progress(ng_results_file *f, ng_progress_fn fn,
+                             void *ctx)
+{
+    f->progress = fn;
+    f->progress_ctx = ctx;
+}
 
 const char *ng_results_temp_path(const ng_results_file *f)
 {
@@ -83,6 +94,14 @@ void ng_results_abort(ng_results_file *f)
 
 /* ---- small HDF5 helpers: each returns 0 on success, -1 on failure ---- */
 
+/* What the writing helpers share: progress over the data elements. */
+typedef struct writer {
+    ng_progress_fn progress;
+    void *ctx;
+    double total; /* elements of all datasets */
+    double done;
+} writer;
+
 static int attr_write(hid_t loc, const char *name, hid_t type,
                       const void *value)
 {
@@ -118,36 +137,66 @@ static int attr_int(hid_t loc, const char *name, int64_t value)
     return attr_write(loc, name, H5T_NATIVE_INT64, &value);
 }
 
-static int dataset_write(hid_t loc, const char *name, hid_t file_type,
-                         hid_t mem_type, int rank, const hsize_t *dims,
-                         const void *data)
+/* Creation properties of a dataset: chunked with shuffle and deflate when
+ * it holds at least NG_RESULTS_CHUNK_MIN elements (chunks of about 2^17
+ * elements, whole rows), else contiguous (H5P_DEFAULT). */
+static hid_t dataset_plist(int rank, const hsize_t *dims, hsize_t total)
 {
-    hid_t space = H5Screate_simple(rank, dims, NULL);
-    hid_t set = space < 0 ? -1
-                          : H5Dcreate2(loc, name, file_type, space,
-                                       H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    if (total < NG_RESULTS_CHUNK_MIN ||
+        H5Zfilter_avail(H5Z_FILTER_DEFLATE) <= 0)
+        return H5P_DEFAULT;
+    hsize_t chunk[3], row = 1;
+    for (int r = 1; r < rank; r++) {
+        chunk[r] = dims[r];
+        row *= dims[r];
+    }
+    hsize_t rows = ((hsize_t)1 << 17) / (row ? row : 1);
+    chunk[0] = rows < 1 ? 1 : rows > dims[0] ? dims[0] : rows;
+    hid_t pl = H5Pcreate(H5P_DATASET_CREATE);
+    if (pl < 0) return -1;
+    if (H5Pset_chunk(pl, rank, chunk) < 0 || H5Pset_shuffle(pl) < 0 ||
+        H5Pset_deflate(pl, 4) < 0) {
+        H5Pclose(pl);
+        return -1;
+    }
+    return pl;
+}
+
+static int dataset_write(writer *w, hid_t loc, const char *name,
+                         hid_t file_type, hid_t mem_type, int rank,
+                         const hsize_t *dims, const void *data)
+{
     hsize_t total = 1;
     for (int r = 0; r < rank; r++) total *= dims[r];
-    herr_t w = set < 0 ? -1
+    hid_t pl = dataset_plist(rank, dims, total);
+    hid_t space = pl < 0 ? -1 : H5Screate_simple(rank, dims, NULL);
+    hid_t set = space < 0 ? -1
+                          : H5Dcreate2(loc, name, file_type, space,
+                                       H5P_DEFAULT, pl, H5P_DEFAULT);
+    herr_t r = set < 0 ? -1
                : total == 0 ? 0
                             : H5Dwrite(set, mem_type, H5S_ALL, H5S_ALL,
                                        H5P_DEFAULT, data);
-    if (set >= 0) H5Dclose(set);
+    if (set >= 0 && H5Dclose(set) < 0) r = -1;
     if (space >= 0) H5Sclose(space);
-    return w < 0 ? -1 : 0;
+    if (pl > 0 && pl != H5P_DEFAULT) H5Pclose(pl);
+    w->done += (double)total;
+    if (w->progress && w->total > 0.0 && w->done < w->total)
+        w->progress("writing", w->done / w->total, w->ctx);
+    return r < 0 ? -1 : 0;
 }
 
-static int write_doubles(hid_t loc, const char *name, int rank,
+static int write_doubles(writer *w, hid_t loc, const char *name, int rank,
                          const hsize_t *dims, const double *data)
 {
-    return dataset_write(loc, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, rank,
-                         dims, data);
+    return dataset_write(w, loc, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE,
+                         rank, dims, data);
 }
 
-static int write_int64s(hid_t loc, const char *name, int rank,
+static int write_int64s(writer *w, hid_t loc, const char *name, int rank,
                         const hsize_t *dims, const int64_t *data)
 {
-    return dataset_write(loc, name, H5T_STD_I64LE, H5T_NATIVE_INT64, rank,
+    return dataset_write(w, loc, name, H5T_STD_I64LE, H5T_NATIVE_INT64, rank,
                          dims, data);
 }
 
@@ -156,8 +205,17 @@ static hid_t group_create(hid_t loc, const char *name)
     return H5Gcreate2(loc, name, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
 }
 
+/* Data elements of one diagram, for the progress fraction. */
+static double diagram_elements(const ng_diagram *d)
+{
+    double e = 0.0;
+    for (int k = 0; k <= d->max_degree; k++)
+        e += (double)d->bars[k].count * (double)(2 + k + 1 + k + 2);
+    return e;
+}
+
 /* Writes the bars of one diagram under loc/dim{k}/. */
-static int write_diagram(hid_t loc, const ng_diagram *d)
+static int write_diagram(writer *w, hid_t loc, const ng_diagram *d)
 {
     for (int k = 0; k <= d->max_degree; k++) {
         const ng_bars *b = &d->bars[k];
@@ -166,12 +224,12 @@ static int write_diagram(hid_t loc, const ng_diagram *d)
         hid_t g = group_create(loc, name);
         if (g < 0) return -1;
         hsize_t dims[2] = {b->count, 2};
-        int r = write_doubles(g, "bars", 2, dims, b->interval);
+        int r = write_doubles(w, g, "bars", 2, dims, b->interval);
         dims[1] = (hsize_t)k + 1;
-        if (r == 0) r = write_int64s(g, "birth_vertices", 2, dims,
+        if (r == 0) r = write_int64s(w, g, "birth_vertices", 2, dims,
                                      b->birth_vertices);
         dims[1] = (hsize_t)k + 2;
-        if (r == 0) r = write_int64s(g, "death_vertices", 2, dims,
+        if (r == 0) r = write_int64s(w, g, "death_vertices", 2, dims,
                                      b->death_vertices);
         if (r == 0) r = attr_int(g, "truncated", (int64_t)b->truncated);
         H5Gclose(g);
@@ -180,41 +238,47 @@ static int write_diagram(hid_t loc, const ng_diagram *d)
     return 0;
 }
 
-static int write_grid(hid_t file, const ng_grid *g)
+static double grid_elements(const ng_grid *g)
+{
+    double G = (double)g->G, w0 = g->max_degree + 1.0;
+    return G * (7.0 + 2.0 * w0 + 2.0 * (w0 + 1.0) + g->n_slices * w0);
+}
+
+static int write_grid(writer *w, hid_t file, const ng_grid *g)
 {
     hid_t grp = group_create(file, "grid");
     if (grp < 0) return -1;
     int r = 0;
     hsize_t G = g->G, w0 = (hsize_t)g->max_degree + 1, w1 = w0 + 1;
     hsize_t d1[1] = {G}, d2[2] = {G, w0}, d3[2] = {G, w1};
-    r |= write_doubles(grp, "scale", 1, d1, g->scale);
-    r |= write_int64s(grp, "betti_cech", 2, d2, g->betti_cech);
-    r |= write_int64s(grp, "betti_rips", 2, d2, g->betti_rips);
-    r |= write_int64s(grp, "simplices_cech", 2, d3, g->simplices_cech);
-    r |= write_int64s(grp, "simplices_rips", 2, d3, g->simplices_rips);
-    r |= write_doubles(grp, "factor_max", 1, d1, g->factor_max);
-    r |= write_doubles(grp, "factor_q50", 1, d1, g->factor_q50);
-    r |= write_doubles(grp, "factor_q90", 1, d1, g->factor_q90);
-    r |= write_doubles(grp, "shift_max", 1, d1, g->shift_max);
-    r |= write_doubles(grp, "shift_q50", 1, d1, g->shift_q50);
-    r |= write_doubles(grp, "shift_q90", 1, d1, g->shift_q90);
+    r |= write_doubles(w, grp, "scale", 1, d1, g->scale);
+    r |= write_int64s(w, grp, "betti_cech", 2, d2, g->betti_cech);
+    r |= write_int64s(w, grp, "betti_rips", 2, d2, g->betti_rips);
+    r |= write_int64s(w, grp, "simplices_cech", 2, d3, g->simplices_cech);
+    r |= write_int64s(w, grp, "simplices_rips", 2, d3, g->simplices_rips);
+    r |= write_doubles(w, grp, "factor_max", 1, d1, g->factor_max);
+    r |= write_doubles(w, grp, "factor_q50", 1, d1, g->factor_q50);
+    r |= write_doubles(w, grp, "factor_q90", 1, d1, g->factor_q90);
+    r |= write_doubles(w, grp, "shift_max", 1, d1, g->shift_max);
+    r |= write_doubles(w, grp, "shift_q50", 1, d1, g->shift_q50);
+    r |= write_doubles(w, grp, "shift_q90", 1, d1, g->shift_q90);
     if (g->n_slices > 0) {
         hsize_t dh[3] = {(hsize_t)g->n_slices, G, w0};
-        r |= write_int64s(grp, "hilbert", 3, dh, g->hilbert);
+        r |= write_int64s(w, grp, "hilbert", 3, dh, g->hilbert);
     }
     H5Gclose(grp);
     return r ? -1 : 0;
 }
 
-static int write_divergence(hid_t file, const ng_run_record *rec)
+static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
 {
     hid_t grp = group_create(file, "divergence");
     if (grp < 0) return -1;
     int r = 0;
     hsize_t n = (hsize_t)rec->max_degree + 1;
-    r |= write_doubles(grp, "bottleneck", 1, &n, rec->bottleneck);
-    r |= write_doubles(grp, "wasserstein1", 1, &n, rec->wasserstein1);
-    r |= write_doubles(grp, "wasserstein2", 1, &n, rec->wasserstein2);
+    r |= write_doubles(w, grp, "bottleneck", 1, &n, rec->bottleneck);
+    r |= write_doubles(w, grp, "wasserstein1", 1, &n, rec->wasserstein1);
+    r |= write_doubles(w, grp, "wasserstein2", 1, &n, rec->wasserstein2);
     if (rec->grid) {
         r |= attr_double(grp, "factor_bound", rec->grid->factor_bound);
         r |= attr_double(grp, "shift_bound", rec->grid->shift_bound);
@@ -227,10 +291,74 @@ static int write_divergence(hid_t file, const ng_run_record *rec)
     return r ? -1 : 0;
 }
 
+static double seconds_since(const struct timespec *t0)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)(t.tv_sec - t0->tv_sec) +
+           1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
+}
+
+/* /provenance: the last group written, so that the "writing" stage covers
+ * everything but this group and closing the file. */
+static int write_provenance(hid_t file, const ng_run_record *rec,
+                            const struct timespec *start)
+{
+    hid_t grp = group_create(file, "provenance");
+    if (grp < 0) return -1;
+    int r = 0;
+    unsigned major = 0, minor = 0, release = 0;
+    char text[256];
+    H5get_libversion(&major, &minor, &release);
+    snprintf(text, sizeof text, "%u.%u.%u", major, minor, release);
+    r |= attr_string(grp, "hdf5_version", text);
+    r |= attr_int(grp, "threads", rec->threads);
+    r |= attr_int(grp, "peak_memory_bytes", rec->peak_memory_bytes);
+    time_t now = time(NULL);
+    struct tm utc;
+    if (gmtime_r(&now, &utc) == NULL ||
+        strftime(text, sizeof text, "%Y-%m-%dT%H:%M:%SZ", &utc) == 0)
+        text[0] = '\0';
+    r |= attr_string(grp, "created", text);
+    if (gethostname(text, sizeof text) != 0) text[0] = '\0';
+    text[sizeof text - 1] = '\0';
+    r |= attr_string(grp, "host", text);
+
+    /* one attribute per stage, listed in creation order by readers */
+    hid_t pl = H5Pcreate(H5P_GROUP_CREATE);
+    if (pl < 0 || H5Pset_attr_creation_order(pl, H5P_CRT_ORDER_TRACKED |
+                                                     H5P_CRT_ORDER_INDEXED) < 0)
+        r = -1;
+    hid_t st = r ? -1
+                 : H5Gcreate2(grp, "stage_seconds", H5P_DEFAULT, pl,
+                              H5P_DEFAULT);
+    if (pl >= 0) H5Pclose(pl);
+    double total = 0.0;
+    if (st < 0) r = -1;
+    for (int i = 0; r == 0 && i < rec->n_stages; i++) {
+        r |= attr_double(st, rec->stage_names[i], rec->stage_seconds[i]);
+        total += rec->stage_seconds[i];
+    }
+    double writing = seconds_since(start);
+    if (r == 0) r |= attr_double(st, "writing", writing);
+    if (st >= 0) H5Gclose(st);
+    r |= attr_double(grp, "wall_seconds", total + writing);
+    H5Gclose(grp);
+    return r ? -1 : 0;
+}
+
 static int write_all(hid_t file, const ng_run_record *rec,
-                     const ng_persistence *p)
+                     const ng_persistence *p, writer *w,
+                     const struct timespec *start)
 {
     int r = 0;
+    int n_diagrams = 2 + (rec->n_slices > 0 ? rec->n_slices : 0);
+    w->total = 2.0 * (double)rec->n_points;
+    for (int j = 0; j < n_diagrams; j++)
+        w->total += diagram_elements(&p->diagram[j]);
+    if (rec->grid) w->total += grid_elements(rec->grid);
+    if (w->progress) w->progress("writing", 0.0, w->ctx);
+
     hid_t root = H5Gopen2(file, "/", H5P_DEFAULT);
     if (root < 0) return -1;
     r |= attr_string(root, "format", NG_RESULTS_FORMAT);
@@ -243,6 +371,10 @@ static int write_all(hid_t file, const ng_run_record *rec,
     hid_t g = group_create(file, "input");
     if (g < 0) return -1;
     r |= attr_string(g, "source", rec->source);
+    r |= attr_string(g, "file", rec->input_file ? rec->input_file : "");
+    r |= attr_string(g, "sha256",
+                     rec->input_sha256 ? rec->input_sha256 : "");
+    r |= attr_int(g, "bytes", (int64_t)rec->input_bytes);
     r |= attr_int(g, "n_points", (int64_t)rec->n_points);
     r |= attr_int(g, "ambient_dim", (int64_t)rec->ambient_dim);
     r |= attr_string(g, "metric", rec->metric);
@@ -252,8 +384,8 @@ static int write_all(hid_t file, const ng_run_record *rec,
     g = group_create(file, "vertices");
     if (g < 0) return -1;
     hsize_t n = rec->n_points;
-    r |= write_doubles(g, "radius", 1, &n, rec->radius);
-    r |= write_doubles(g, "birth", 1, &n, rec->birth);
+    r |= write_doubles(w, g, "radius", 1, &n, rec->radius);
+    r |= write_doubles(w, g, "birth", 1, &n, rec->birth);
     H5Gclose(g);
     if (r) return -1;
 
@@ -262,6 +394,9 @@ static int write_all(hid_t file, const ng_run_record *rec,
     r |= attr_string(g, "radius_rule", rec->radius_rule);
     r |= attr_string(g, "law", rec->law);
     r |= attr_double(g, "scale_limit", rec->scale_limit);
+    r |= attr_int(g, "scale_auto", rec->scale_auto ? 1 : 0);
+    r |= attr_double(g, "full_scale", rec->full_scale);
+    r |= attr_int(g, "limited_by_budget", rec->limited_by_budget ? 1 : 0);
     r |= attr_int(g, "max_degree", rec->max_degree);
     r |= attr_int(g, "truncated", rec->truncated ? 1 : 0);
     H5Gclose(g);
@@ -271,7 +406,7 @@ static int write_all(hid_t file, const ng_run_record *rec,
     for (int j = 0; j < 2 && j < p->n_filtrations; j++) {
         g = group_create(file, names[j]);
         if (g < 0) return -1;
-        r = write_diagram(g, &p->diagram[j]);
+        r = write_diagram(w, g, &p->diagram[j]);
         H5Gclose(g);
         if (r) return -1;
     }
@@ -279,7 +414,7 @@ static int write_all(hid_t file, const ng_run_record *rec,
         g = group_create(file, "slices");
         if (g < 0) return -1;
         hsize_t L = (hsize_t)rec->n_slices;
-        r |= write_doubles(g, "values", 1, &L, rec->slice_values);
+        r |= write_doubles(w, g, "values", 1, &L, rec->slice_values);
         if (r == 0) {
             hid_t v = H5Dopen2(g, "values", H5P_DEFAULT);
             r |= v < 0 ? -1 : attr_string(v, "kind", rec->slice_kind);
@@ -293,20 +428,22 @@ static int write_all(hid_t file, const ng_run_record *rec,
                 r = -1;
                 break;
             }
-            r |= write_diagram(sg, &p->diagram[2 + s]);
+            r |= write_diagram(w, sg, &p->diagram[2 + s]);
             H5Gclose(sg);
         }
         H5Gclose(g);
         if (r) return -1;
     }
-    if (rec->grid && write_grid(file, rec->grid) != 0) return -1;
-    if (rec->bottleneck && write_divergence(file, rec) != 0) return -1;
-    return 0;
+    if (rec->grid && write_grid(w, file, rec->grid) != 0) return -1;
+    if (rec->bottleneck && write_divergence(w, file, rec) != 0) return -1;
+    return write_provenance(file, rec, start);
 }
 
 int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
                       const ng_persistence *p, ng_error *err)
 {
+    struct timespec start;
+    clock_gettime(CLOCK_MONOTONIC, &start);
     if (p->n_filtrations < 2 + (rec->n_slices > 0 ? rec->n_slices : 0)) {
         ng_results_abort(f);
         return ng_error_set(err, NG_ERR_USAGE,
@@ -318,6 +455,7 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
     H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
     H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
     int status = NG_OK;
+    writer w = {f->progress, f->progress_ctx, 0.0, 0.0};
     hid_t file = H5Fcreate(f->temp_path, H5F_ACC_TRUNC, H5P_DEFAULT,
                            H5P_DEFAULT);
     if (file < 0) {
@@ -325,9 +463,9 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
                               "file (temporary %s)", f->final_path,
                               f->temp_path);
     } else {
-        int w = write_all(file, rec, p);
-        if (H5Fclose(file) < 0) w = -1;
-        if (w != 0)
+        int r = write_all(file, rec, p, &w, &start);
+        if (H5Fclose(file) < 0) r = -1;
+        if (r != 0)
             status = ng_error_set(err, NG_ERR_IO,
                                   "%s: writing the results failed (disk "
                                   "full?)", f->final_path);
@@ -340,115 +478,8 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
     if (status == NG_OK) {
         ng_free(f->temp_path);
         f->temp_path = NULL; /* renamed: nothing to remove */
+        if (w.progress) w.progress("writing", 1.0, w.ctx);
     }
     ng_results_abort(f);
-    return status;
-}
-
-/* ---- reading back ---- */
-
-void ng_results_bars_free(double *bars) { ng_free(bars); }
-
-static int read_scalar_attr(hid_t loc, const char *name, hid_t type,
-                            void *out)
-{
-    if (H5Aexists(loc, name) <= 0) return -1;
-    hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
-    if (a < 0) return -1;
-    herr_t r = H5Aread(a, type, out);
-    H5Aclose(a);
-    return r < 0 ? -1 : 0;
-}
-
-static int read_bars_open(hid_t file, const char *path, const char *group,
-                          int k, double **bars, size_t *count,
-                          int *max_degree, double *scale_limit,
-                          ng_error *err)
-{
-    char *format = NULL;
-    hid_t root = H5Gopen2(file, "/", H5P_DEFAULT);
-    hid_t str = H5Tcopy(H5T_C_S1);
-    H5Tset_size(str, H5T_VARIABLE);
-    H5Tset_cset(str, H5T_CSET_UTF8);
-    int ok = root >= 0 && read_scalar_attr(root, "format", str, &format) == 0 &&
-             format && strcmp(format, NG_RESULTS_FORMAT) == 0;
-    if (format) H5free_memory(format);
-    H5Tclose(str);
-    if (root >= 0) H5Gclose(root);
-    if (!ok)
-        return ng_error_set(err, NG_ERR_INPUT,
-                            "%s: not a nervegap results file (no format = "
-                            "\"%s\" attribute on /)", path, NG_RESULTS_FORMAT);
-    int64_t D = -1;
-    double T = NAN;
-    hid_t scheme = H5Gopen2(file, "scheme", H5P_DEFAULT);
-    if (scheme >= 0) {
-        read_scalar_attr(scheme, "max_degree", H5T_NATIVE_INT64, &D);
-        read_scalar_attr(scheme, "scale_limit", H5T_NATIVE_DOUBLE, &T);
-        H5Gclose(scheme);
-    }
-    if (max_degree) *max_degree = (int)D;
-    if (scale_limit) *scale_limit = T;
-    if (k < 0 || k > D)
-        return ng_error_set(err, NG_ERR_INPUT,
-                            "%s: degree %d is not in the file (it has degrees "
-                            "0..%lld)", path, k, (long long)D);
-    char name[128];
-    snprintf(name, sizeof name, "%s/dim%d/bars", group, k);
-    if (H5Lexists(file, group, H5P_DEFAULT) <= 0 ||
-        H5Lexists(file, name, H5P_DEFAULT) <= 0)
-        return ng_error_set(err, NG_ERR_INPUT, "%s: no dataset /%s", path,
-                            name);
-    hid_t set = H5Dopen2(file, name, H5P_DEFAULT);
-    hid_t space = set < 0 ? -1 : H5Dget_space(set);
-    hsize_t dims[2] = {0, 0};
-    int rank = space < 0 ? -1 : H5Sget_simple_extent_ndims(space);
-    if (rank == 2) H5Sget_simple_extent_dims(space, dims, NULL);
-    int status = NG_OK;
-    if (rank != 2 || dims[1] != 2) {
-        status = ng_error_set(err, NG_ERR_INPUT, "%s: /%s is not an m × 2 "
-                              "array", path, name);
-    } else {
-        *count = (size_t)dims[0];
-        *bars = ng_malloc(*count, 2 * sizeof **bars);
-        if (*bars == NULL)
-            status = ng_error_set(err, NG_ERR_NOMEM, "%s: out of memory for "
-                                  "%zu bars", path, *count);
-        else if (*count > 0 && H5Dread(set, H5T_NATIVE_DOUBLE, H5S_ALL,
-                                       H5S_ALL, H5P_DEFAULT, *bars) < 0)
-            status = ng_error_set(err, NG_ERR_IO, "%s: cannot read /%s", path,
-                                  name);
-    }
-    if (space >= 0) H5Sclose(space);
-    if (set >= 0) H5Dclose(set);
-    return status;
-}
-
-int ng_results_read_bars(const char *path, const char *group, int k,
-                         double **bars, size_t *count, int *max_degree,
-                         double *scale_limit, ng_error *err)
-{
-    *bars = NULL;
-    *count = 0;
-    H5E_auto2_t old_func;
-    void *old_data;
-    H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
-    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
-    int status;
-    hid_t file = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
-    if (file < 0) {
-        status = ng_error_set(err, NG_ERR_INPUT,
-                              "%s: cannot open as an HDF5 file", path);
-    } else {
-        status = read_bars_open(file, path, group, k, bars, count, max_degree,
-                                scale_limit, err);
-        H5Fclose(file);
-    }
-    H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
-    if (status != NG_OK) {
-        ng_free(*bars);
-        *bars = NULL;
-        *count = 0;
-    }
     return status;
 }

@@ -150,7 +150,7 @@ static double *bars_cut_at(const ng_diagram *d, int k, double T)
 /* Bottleneck and Wasserstein distances between the Čech and Rips
  * diagrams, per degree (DESIGN §2.6). */
 static int divergence(const ng_persistence *p, ng_run_result *out,
-                      ng_error *err)
+                      const ng_run_options *opt, ng_error *err)
 {
     double T = p->scale_limit;
     for (int k = 0; k <= p->max_degree; k++) {
@@ -182,6 +182,7 @@ static int divergence(const ng_persistence *p, ng_run_result *out,
             out->wasserstein_relative_error = rel1;
         if (rel2 > out->wasserstein_relative_error)
             out->wasserstein_relative_error = rel2;
+        report(opt, "divergence", (k + 1.0) / (p->max_degree + 1.0));
     }
     return NG_OK;
 }
@@ -273,6 +274,8 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
         .value = simplex_values,
         .ctx = &vctx,
         .threads = o.threads,
+        .progress = o.progress,
+        .progress_ctx = o.progress_ctx,
     };
     report(&o, "simplices", 0.0);
     status = ng_complex_build(&spec, &complex, err);
@@ -280,15 +283,19 @@ int ng_run_compute(const ng_cloud *cloud, const ng_radii *radii,
     ng_csr_free(&graph);
     report(&o, "simplices", 1.0);
     report(&o, "reduction", 0.0);
-    status = ng_persistence_compute(complex, o.threads, &out->persistence,
-                                    err);
+    status = ng_persistence_compute_progress(complex, o.threads, o.progress,
+                                             o.progress_ctx,
+                                             &out->persistence, err);
     if (status != NG_OK) goto cleanup;
     report(&o, "reduction", 1.0);
-    status = ng_grid_compute(complex, out->persistence, o.grid, &out->grid,
-                             err);
+    report(&o, "grid", 0.0);
+    status = ng_grid_compute_progress(complex, out->persistence, o.grid,
+                                      o.progress, o.progress_ctx, &out->grid,
+                                      err);
     if (status != NG_OK) goto cleanup;
     report(&o, "grid", 1.0);
-    status = divergence(out->persistence, out, err);
+    report(&o, "divergence", 0.0);
+    status = divergence(out->persistence, out, &o, err);
     if (status != NG_OK) goto cleanup;
     report(&o, "divergence", 1.0);
     for (int j = 0; j < L; j++) {

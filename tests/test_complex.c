@@ -15,6 +15,7 @@
 
 #include <check.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdatomic.h>
 #include <stdint.h>
 #include <stdlib.h>
@@ -226,7 +227,7 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
     double *vv = malloc(n * (size_t)L * sizeof *vv);
     for (size_t i = 0; i < n * (size_t)L; i++) vv[i] = rng_uniform();
     counting_ctx cc = {.L = L};
-    ng_complex_spec spec = {&g, top, L, vv, 0.5, counting_value, &cc, threads};
+    ng_complex_spec spec = {&g, top, L, vv, 0.5, counting_value, &cc, threads, NULL, NULL};
     ng_error err;
     ng_error_clear(&err);
     ng_complex_size size;
@@ -341,6 +342,56 @@ START_TEST(test_complete_graph)
 }
 END_TEST
 
+/* Progress of the build: stage "simplices", fractions in (0, 1),
+ * non-decreasing, from the calling thread only. */
+typedef struct progress_log {
+    int calls, bad_stage, decreasing, out_of_range;
+    double last;
+    pthread_t caller;
+    int other_thread;
+} progress_log;
+
+static void log_progress(const char *stage, double f, void *ctx)
+{
+    progress_log *log = ctx;
+    log->calls++;
+    log->bad_stage += strcmp(stage, "simplices") != 0;
+    log->decreasing += f < log->last;
+    log->out_of_range += !(f > 0.0 && f < 1.0);
+    log->other_thread += !pthread_equal(pthread_self(), log->caller);
+    log->last = f;
+}
+
+START_TEST(test_progress)
+{
+    rng_state = 11;
+    unsigned char *adj;
+    ng_csr g;
+    random_graph(60, 0.6, &adj, &g);
+    double vv[60] = {0};
+    counting_ctx cc = {.L = 1};
+    progress_log log = {0};
+    log.caller = pthread_self();
+    ng_complex_spec spec = {&g, 3, 1, vv, 1.0, counting_value, &cc, 2,
+                            log_progress, &log};
+    ng_error err;
+    ng_error_clear(&err);
+    ng_complex *c;
+    ck_assert_int_eq(ng_complex_build(&spec, &c, &err), NG_OK);
+    size_t valued = 0;
+    for (int k = 1; k <= 3; k++) valued += ng_complex_count(c, k);
+    ck_assert_uint_gt(valued, 20000); /* several progress steps */
+    ck_assert_int_ge(log.calls, 3);
+    ck_assert_int_eq(log.bad_stage, 0);
+    ck_assert_int_eq(log.decreasing, 0);
+    ck_assert_int_eq(log.out_of_range, 0);
+    ck_assert_int_eq(log.other_thread, 0);
+    ng_complex_free(c);
+    csr_release(&g);
+    free(adj);
+}
+END_TEST
+
 START_TEST(test_errors)
 {
     rng_state = 99;
@@ -349,7 +400,7 @@ START_TEST(test_errors)
     random_graph(10, 0.5, &adj, &g);
     double vv[10] = {0};
     counting_ctx cc = {.L = 1};
-    ng_complex_spec spec = {&g, 2, 1, vv, 1.0, counting_value, &cc, 1};
+    ng_complex_spec spec = {&g, 2, 1, vv, 1.0, counting_value, &cc, 1, NULL, NULL};
     ng_error err;
     ng_complex *c = (ng_complex *)1;
 
@@ -482,7 +533,7 @@ START_TEST(test_allocation_failures)
     random_graph(12, 0.6, &adj, &g);
     double vv[24] = {0};
     counting_ctx cc = {.L = 2};
-    ng_complex_spec spec = {&g, 3, 2, vv, 1.0, counting_value, &cc, 2};
+    ng_complex_spec spec = {&g, 3, 2, vv, 1.0, counting_value, &cc, 2, NULL, NULL};
     int succeeded = 0;
     for (long after = 0; after < 200 && !succeeded; after++) {
         ng_error err;
@@ -513,6 +564,7 @@ static Suite *complex_suite(void)
     tcase_add_test(tc, test_key_round_trip_large);
     tcase_add_loop_test(tc, test_cliques_random, 0, 10);
     tcase_add_test(tc, test_complete_graph);
+    tcase_add_test(tc, test_progress);
     tcase_add_test(tc, test_errors);
     tcase_add_loop_test(tc, test_asymmetric_anywhere, 0, 20);
     tcase_add_loop_test(tc, test_estimate_cap, 0, 6);

@@ -163,7 +163,7 @@ static ng_complex *build(cloud *cl, const ng_csr *g, int top, double T,
     double *vv = malloc(cl->n * (size_t)cl->L * sizeof *vv);
     for (size_t i = 0; i < cl->n; i++)
         for (int j = 0; j < cl->L; j++) vv[i * (size_t)cl->L + (size_t)j] = cl->birth[i];
-    ng_complex_spec spec = {g, top, cl->L, vv, T, cloud_callback, cl, threads};
+    ng_complex_spec spec = {g, top, cl->L, vv, T, cloud_callback, cl, threads, NULL, NULL};
     ng_error err;
     ng_error_clear(&err);
     ng_complex *c = NULL;

@@ -24,6 +24,7 @@ typedef struct ng_cloud {
     double *dist;     /* n × n, row-major, when read as distances; else NULL */
     char **names;     /* dim column names from a text header, or NULL */
     char *source;     /* the path (or path:/dataset) it was read from */
+    char *file;       /* the file part of source (without :/dataset) */
 } ng_cloud;
 
 /* Reads a coordinate cloud from spec: a text file, a .npy file, or

@@ -49,6 +49,12 @@ typedef struct ng_error {
 typedef uint32_t ng_index;
 #define NG_INDEX_MAX (UINT32_MAX - 1u)
 
+/* Progress of a long stage: fraction runs from 0 (the stage starts) to 1
+ * (it is done); called from the thread that called the library function
+ * only, never concurrently. stage is a short lowercase name ("simplices"). */
+typedef void (*ng_progress_fn)(const char *stage, double fraction,
+                               void *ctx);
+
 /* Sets err (when not NULL) to code and the formatted message, unless err
  * already holds an error (the first error detected is the one reported).
  * Returns code, so that `return ng_error_set(err, ...)` reads naturally. */

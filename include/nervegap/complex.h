@@ -54,6 +54,9 @@ typedef struct ng_complex_spec {
     ng_value_fn value;    /* values of simplices with ≥ 2 vertices */
     void *ctx;            /* passed to value */
     int threads;          /* ≤ 0: the OpenMP default, else that many */
+    ng_progress_fn progress; /* stage "simplices", fractions in (0, 1);
+                                may be NULL */
+    void *progress_ctx;
 } ng_complex_spec;
 
 /* The size of a clique set, known before anything is stored. */

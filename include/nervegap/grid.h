@@ -43,6 +43,13 @@ typedef struct ng_grid {
 NG_API int ng_grid_compute(const ng_complex *c, const ng_persistence *p,
                            size_t G, ng_grid *out, ng_error *err);
 
+/* As ng_grid_compute, and reports stage "grid" to progress (may be NULL)
+ * between its phases. */
+NG_API int ng_grid_compute_progress(const ng_complex *c,
+                                    const ng_persistence *p, size_t G,
+                                    ng_progress_fn progress, void *ctx,
+                                    ng_grid *out, ng_error *err);
+
 /* Frees the arrays of g and zeroes it. Accepts NULL. */
 NG_API void ng_grid_free(ng_grid *g);
 

@@ -51,6 +51,13 @@ typedef struct ng_persistence {
 NG_API int ng_persistence_compute(const ng_complex *c, int threads,
                                   ng_persistence **out, ng_error *err);
 
+/* As ng_persistence_compute, and reports stage "reduction" to progress
+ * (may be NULL) after each filtration: fraction = filtrations done / L. */
+NG_API int ng_persistence_compute_progress(const ng_complex *c, int threads,
+                                           ng_progress_fn progress, void *ctx,
+                                           ng_persistence **out,
+                                           ng_error *err);
+
 /* Frees a result and everything in it. Accepts NULL. */
 NG_API void ng_persistence_free(ng_persistence *p);
 

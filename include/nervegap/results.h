@@ -1,15 +1,18 @@
-/* results.h — the HDF5 results file of a run (DESIGN §5).
+/* results.h — the HDF5 results file of a run (DESIGN §5): writing it
+ * safely, and reading all of it back.
  *
- * Layout written here:
+ * Layout (format_version 2; README.md has the same table for users):
  *   /                 attrs format = "nervegap-results", format_version,
  *                     tool_version, command
- *   /input            attrs source, n_points, ambient_dim, metric
+ *   /input            attrs source, file, sha256, bytes, n_points,
+ *                     ambient_dim, metric
  *   /vertices/radius  float64[n]   base radius after normalisation
  *   /vertices/birth   float64[n]
- *   /scheme           attrs radius_rule, law, scale_limit, max_degree,
- *                     truncated
+ *   /scheme           attrs radius_rule, law, scale_limit, scale_auto,
+ *                     full_scale, limited_by_budget, max_degree, truncated
  *   /cech/dim{k}/bars float64[m][2] birth, death (+inf: alive at the limit)
  *   /cech/dim{k}/birth_vertices int64[m][k+1], death_vertices int64[m][k+2]
+ *                     (−1 where death = +inf); attr truncated
  *   /rips/dim{k}/…    the same
  *   /slices/values    float64[L], attr kind; /slices/{j}/dim{k}/… likewise
  *   /grid/scale       float64[G]; betti_cech, betti_rips int64[G][D+1];
@@ -20,6 +23,15 @@
  *   /divergence/bottleneck, wasserstein1, wasserstein2  float64[D+1];
  *                     attrs factor_bound, shift_bound, factor_bound_at,
  *                     shift_bound_at, wasserstein_relative_error
+ *   /provenance       attrs hdf5_version, threads, peak_memory_bytes,
+ *                     wall_seconds, created, host
+ *   /provenance/stage_seconds  one float64 attr per stage, in stage order
+ *
+ * Format 1 (nervegap 0.1.0 before provenance) lacks /provenance and the
+ * input attrs file, sha256, bytes and the scheme attrs scale_auto,
+ * full_scale, limited_by_budget; ng_results_load reads both formats.
+ * Datasets of at least NG_RESULTS_CHUNK_MIN elements are stored chunked,
+ * with the shuffle and deflate filters (level 4).
  *
  * Safety: the file is written under a temporary name in the directory of
  * the final path and renamed onto it only when complete, so a killed or
@@ -33,19 +45,26 @@
 #include "nervegap/persistence.h"
 
 #define NG_RESULTS_FORMAT "nervegap-results"
-#define NG_RESULTS_FORMAT_VERSION 1
+#define NG_RESULTS_FORMAT_VERSION 2
+#define NG_RESULTS_CHUNK_MIN 4096
 
 /* Everything about a run that the file records besides the barcodes.
  * All pointers are borrowed. */
 typedef struct ng_run_record {
     const char *command;       /* the full command line */
     const char *source;        /* input path (or path:/dataset) */
+    const char *input_file;    /* the file read; NULL: not recorded */
+    const char *input_sha256;  /* its SHA-256 in hex; NULL: not recorded */
+    uint64_t input_bytes;      /* its length */
     size_t n_points;           /* points after merging */
     size_t ambient_dim;        /* 0 for a distance matrix */
     const char *metric;
     const char *radius_rule;   /* canonical text, e.g. "knn:8" */
     const char *law;
     double scale_limit;        /* T */
+    int scale_auto;            /* T was chosen automatically */
+    double full_scale;         /* the full scale, NaN when not computed */
+    int limited_by_budget;     /* auto chose T below the full scale */
     int max_degree;            /* D */
     int truncated;             /* nonzero: some bar was alive at T */
     const double *radius;      /* n_points base radii */
@@ -58,6 +77,13 @@ typedef struct ng_run_record {
     const double *wasserstein1;
     const double *wasserstein2;
     double wasserstein_relative_error; /* guaranteed bound of the two */
+    /* provenance: the writer adds the HDF5 version, the time, the host and
+     * a last stage "writing" (its own time up to closing the file) */
+    int threads;               /* threads used; 0: not recorded */
+    int64_t peak_memory_bytes; /* peak resident memory; < 0: unknown */
+    int n_stages;              /* stages before writing */
+    const char *const *stage_names;
+    const double *stage_seconds; /* wall time of each stage */
 } ng_run_record;
 
 /* An output file being prepared: created under a temporary name so that an
@@ -69,6 +95,11 @@ typedef struct ng_results_file ng_results_file;
  * (exit code 2: a bad -o) naming the path when it cannot be created. */
 NG_API int ng_results_open(const char *path, ng_results_file **out,
                            ng_error *err);
+
+/* Reports the progress of ng_results_commit as stage "writing" (fraction =
+ * share of the data elements written). fn may be NULL. */
+NG_API void ng_results_set_progress(ng_results_file *f, ng_progress_fn fn,
+                                    void *ctx);
 
 /* Writes the record and the barcodes (filtration 0 = Čech, 1 = Rips, 2.. =
  * the slices in order), closes the file and renames it onto the final path.
@@ -83,17 +114,86 @@ NG_API void ng_results_abort(ng_results_file *f);
 /* The temporary path of f (for signal handlers that must unlink it). */
 NG_API const char *ng_results_temp_path(const ng_results_file *f);
 
-/* Reads the bars of one diagram from a results file: group "cech",
- * "rips" or "slices/J", degree k. On success *bars is an m × 2 array
- * (caller frees with ng_results_bars_free) and *count = m; *max_degree (when
- * not NULL) receives the file's max_degree and *scale_limit (when not NULL)
- * its scale limit. NG_ERR_INPUT naming the file and path when the file is
- * not a nervegap results file, or the degree or group is absent. */
-NG_API int ng_results_read_bars(const char *path, const char *group, int k,
-                                double **bars, size_t *count, int *max_degree,
-                                double *scale_limit, ng_error *err);
+/* A whole results file in memory. Strings and arrays are owned by the
+ * struct; what a file of format 1 lacks is NULL (strings, arrays), −1
+ * (counts and flags) or NaN (numbers). */
+typedef struct ng_results {
+    char *path;                /* the file it was loaded from */
+    int format_version;
+    char *tool_version;
+    char *command;
+    /* /input */
+    char *source;
+    char *input_file;
+    char *input_sha256;
+    int64_t input_bytes;
+    size_t n_points;
+    size_t ambient_dim;        /* 0 for a distance matrix */
+    char *metric;
+    /* /vertices */
+    double *radius;            /* n_points */
+    double *birth;             /* n_points */
+    /* /scheme */
+    char *radius_rule;
+    char *law;
+    double scale_limit;        /* T */
+    int scale_auto;
+    double full_scale;         /* NaN when not computed or absent */
+    int limited_by_budget;
+    int max_degree;            /* D */
+    int truncated;
+    /* the diagrams: bars[k] for k = 0..D, each with its vertex arrays and
+     * its count of bars alive at T; simplices[] are 0 (the counts per
+     * scale are in the grid) */
+    ng_diagram cech;
+    ng_diagram rips;
+    int n_slices;              /* L, 0 without slices */
+    char *slice_kind;          /* "factor" or "shift"; NULL without slices */
+    double *slice_values;      /* L */
+    ng_diagram *slices;        /* L */
+    /* /grid (has_grid = 0: absent; grid then zeroed). The bounds in grid
+     * are copied from /divergence. */
+    int has_grid;
+    ng_grid grid;
+    /* /divergence (has_divergence = 0: absent, values NaN) */
+    int has_divergence;
+    double bottleneck[NG_COMPLEX_MAX_DIM];   /* degrees 0..D */
+    double wasserstein1[NG_COMPLEX_MAX_DIM];
+    double wasserstein2[NG_COMPLEX_MAX_DIM];
+    double factor_bound, shift_bound;        /* Λ, Δ */
+    double factor_bound_at, shift_bound_at;  /* Rips values attaining them */
+    double wasserstein_relative_error;
+    /* /provenance */
+    char *hdf5_version;
+    char *created;             /* UTC, ISO 8601 */
+    char *host;
+    int threads;
+    int64_t peak_memory_bytes;
+    double wall_seconds;
+    int n_stages;              /* 0 when absent */
+    char **stage_names;        /* n_stages */
+    double *stage_seconds;     /* n_stages */
+} ng_results;
 
-/* Frees an array returned by ng_results_read_bars. Accepts NULL. */
-NG_API void ng_results_bars_free(double *bars);
+/* Reads every attribute and dataset of a results file (format 1 or 2) and
+ * checks the shapes against each other. On success *out owns the result
+ * (free with ng_results_free). On failure *out is NULL and err says what
+ * is wrong, naming the file and the HDF5 path: NG_ERR_INPUT for a file that
+ * cannot be opened, is not HDF5, is not a nervegap results file, has a
+ * newer format_version, or misses or has a malformed attribute or dataset;
+ * NG_ERR_IO when HDF5 fails to read existing data; NG_ERR_NOMEM. */
+NG_API int ng_results_load(const char *path, ng_results **out,
+                           ng_error *err);
+
+/* Frees a loaded file. Accepts NULL. */
+NG_API void ng_results_free(ng_results *r);
+
+/* Diagram of filtration j in the order of run.h: 0 = Čech, 1 = Rips, 2.. =
+ * slice j − 2; NULL when j is out of range. */
+NG_API const ng_diagram *ng_results_diagram(const ng_results *r, int j);
+
+/* Name of filtration j ≥ 0 written into buf: "cech", "rips", "slices/0",
+ * …; returns buf (NULL when j < 0). */
+NG_API const char *ng_results_diagram_name(int j, char *buf, size_t size);
 
 #endif

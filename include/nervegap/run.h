@@ -38,10 +38,6 @@ typedef enum ng_slice_kind {
     NG_SLICE_SHIFT
 } ng_slice_kind;
 
-/* Progress of a long stage: called from the calling thread only. */
-typedef void (*ng_progress_fn)(const char *stage, double fraction,
-                               void *ctx);
-
 typedef struct ng_run_options {
     int max_degree;        /* D, 0..4 (default 1) */
     int scale_auto;        /* nonzero: scale limit auto */

@@ -7,6 +7,7 @@
 #include "args.h"
 #include "nervegap/distance.h"
 #include "nervegap/results.h"
+#include "output.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -27,13 +28,6 @@ static const char distance_help[] =
     "  --degree k      one degree (default: every degree both files have)\n"
     "  --p P           only this distance: 1, 2 or inf (default: all three)\n"
     "  --json          one JSON object on stdout instead of a table\n";
-
-static size_t count_infinite(const double *bars, size_t m)
-{
-    size_t c = 0;
-    for (size_t i = 0; i < m; i++) c += isinf(bars[2 * i + 1]) ? 1 : 0;
-    return c;
-}
 
 static void print_value(double v, int json)
 {
@@ -91,42 +85,41 @@ int cmd_distance(int argc, char **argv)
     if (err.code != NG_OK) return cli_fail("distance", &err);
 
     const char *pa = args.positional[0], *pb = args.positional[1];
-    double *a = NULL, *b = NULL;
-    size_t na, nb;
-    int da, db;
-    /* the degrees both files have, from degree 0 */
-    if (ng_results_read_bars(pa, group, 0, &a, &na, &da, NULL, &err) ||
-        ng_results_read_bars(pb, group, 0, &b, &nb, &db, NULL, &err)) {
-        ng_results_bars_free(a);
+    ng_results *ra = NULL, *rb = NULL;
+    if (ng_results_load(pa, &ra, &err) || ng_results_load(pb, &rb, &err)) {
+        ng_results_free(ra);
         return cli_fail("distance", &err);
     }
-    ng_results_bars_free(a);
-    ng_results_bars_free(b);
+    int j = strcmp(group, "cech") == 0 ? 0 : 1;
+    const ng_diagram *ga = ng_results_diagram(ra, j);
+    const ng_diagram *gb = ng_results_diagram(rb, j);
+    /* the degrees both files have, from degree 0 */
+    int da = ra->max_degree, db = rb->max_degree;
     int top = da < db ? da : db;
     int k0 = only >= 0 ? only : 0, k1 = only >= 0 ? only : top;
+    int code = 0;
     if (only > top) {
         ng_error_set(&err, NG_ERR_USAGE,
                      "--degree %d: %s has degrees 0..%d and %s 0..%d", only,
                      pa, da, pb, db);
-        return cli_fail("distance", &err);
+        code = cli_fail("distance", &err);
+        goto cleanup;
     }
-    if (json)
-        printf("{\"a\": \"%s\", \"b\": \"%s\", \"complex\": \"%s\", "
-               "\"degrees\": [", pa, pb, group);
-    else
+    if (json) {
+        printf("{\"a\": ");
+        out_json_string(stdout, pa);
+        printf(", \"b\": ");
+        out_json_string(stdout, pb);
+        printf(", \"complex\": \"%s\", \"degrees\": [", group);
+    } else {
         printf("%-6s %8s %8s %12s %12s %12s\n", "degree", "bars A", "bars B",
                want_p[0] ? "bottleneck" : "", want_p[1] ? "wasserstein1" : "",
                want_p[2] ? "wasserstein2" : "");
-    int code = 0;
+    }
     const char *note = NULL;
     for (int k = k0; k <= k1; k++) {
-        a = b = NULL;
-        if (ng_results_read_bars(pa, group, k, &a, &na, NULL, NULL, &err) ||
-            ng_results_read_bars(pb, group, k, &b, &nb, NULL, NULL, &err)) {
-            code = cli_fail("distance", &err);
-            ng_results_bars_free(a);
-            break;
-        }
+        const double *a = ga->bars[k].interval, *b = gb->bars[k].interval;
+        size_t na = ga->bars[k].count, nb = gb->bars[k].count;
         double v[3] = {NAN, NAN, NAN}, rel;
         int st = NG_OK;
         if (want_p[0]) st = ng_bottleneck_distance(a, na, b, nb, &v[0], &err);
@@ -136,9 +129,7 @@ int cmd_distance(int argc, char **argv)
         if (st == NG_OK && want_p[2])
             st = ng_wasserstein_distance(a, na, b, nb, 2.0, 1e-6, &v[2], &rel,
                                          &err);
-        size_t ia = count_infinite(a, na), ib = count_infinite(b, nb);
-        ng_results_bars_free(a);
-        ng_results_bars_free(b);
+        size_t ia = ga->bars[k].truncated, ib = gb->bars[k].truncated;
         if (st != NG_OK) {
             code = cli_fail("distance", &err);
             break;
@@ -171,5 +162,8 @@ int cmd_distance(int argc, char **argv)
     }
     if (json) printf("]%s%s%s}\n", note ? ", \"note\": \"" : "",
                      note ? note : "", note ? "\"" : "");
+cleanup:
+    ng_results_free(ra);
+    ng_results_free(rb);
     return code;
 }

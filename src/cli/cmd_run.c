@@ -1,13 +1,18 @@
 /* cmd_run.c — `nervegap run`: the main job, from a cloud to the results
- * file. The output file is created (under a temporary name) before any
- * computation so that an unwritable path fails at once; SIGINT and SIGTERM
- * remove it and exit with 130 / 143. */
+ * file. The output file is created (under a temporary name) before the
+ * input is read, so that an unwritable path fails at once; SIGINT and
+ * SIGTERM remove it and exit with 130 / 143. Progress and the time of each
+ * stage go through progress.h. */
 #include "commands.h"
+#include "nervegap/provenance.h"
 #include "nervegap/results.h"
 #include "nervegap/run.h"
+#include "nervegap/sha256.h"
+#include "progress.h"
 #include "scheme_flags.h"
 
 #include <errno.h>
+#include <limits.h>
 #include <math.h>
 #include <signal.h>
 #include <stdio.h>
@@ -42,35 +47,30 @@ static const char run_help[] =
     "                          4G (default: half the physical memory)\n"
     "  --quiet                 no progress lines on stderr\n";
 
-static volatile sig_atomic_t stop_signal = 0;
-static const char *temp_path_for_signal = NULL;
+/* The temporary output file that a signal must remove: a copy of its path
+ * (the library's copy is freed on commit), armed only while it exists. */
+static char temp_path_for_signal[PATH_MAX];
+static volatile sig_atomic_t temp_armed = 0;
 
 static void on_signal(int sig)
 {
-    stop_signal = sig;
-    if (temp_path_for_signal) unlink(temp_path_for_signal);
+    if (temp_armed) unlink(temp_path_for_signal);
     _exit(128 + sig);
 }
 
-typedef struct progress_state {
-    int quiet;
-    struct timespec start;
-} progress_state;
-
-static double seconds_since(const struct timespec *t0)
+static void arm_signals(const ng_results_file *file)
 {
-    struct timespec t;
-    clock_gettime(CLOCK_MONOTONIC, &t);
-    return (double)(t.tv_sec - t0->tv_sec) +
-           1e-9 * (double)(t.tv_nsec - t0->tv_nsec);
+    snprintf(temp_path_for_signal, sizeof temp_path_for_signal, "%s",
+             ng_results_temp_path(file));
+    temp_armed = 1;
+    signal(SIGINT, on_signal);
+    signal(SIGTERM, on_signal);
 }
 
-static void progress(const char *stage, double fraction, void *opaque)
+static int fail(progress *prog, const ng_error *err)
 {
-    progress_state *p = opaque;
-    if (p->quiet || fraction < 1.0) return;
-    fprintf(stderr, "nervegap run: %-12s done at %.2f s\n", stage,
-            seconds_since(&p->start));
+    progress_break(prog);
+    return cli_fail("run", err);
 }
 
 /* The command line as one string, arguments with spaces quoted. */
@@ -169,9 +169,9 @@ int cmd_run(int argc, char **argv)
         ng_run_parse_count(max_simplices, &opt.max_simplices, &err);
     if (err.code != NG_OK) return cli_fail("run", &err);
 
-    progress_state prog = {quiet, {0, 0}};
-    clock_gettime(CLOCK_MONOTONIC, &prog.start);
-    opt.progress = progress;
+    progress prog;
+    progress_init(&prog, "run", quiet);
+    opt.progress = progress_report;
     opt.progress_ctx = &prog;
 
     ng_scheme scheme;
@@ -180,27 +180,34 @@ int cmd_run(int argc, char **argv)
     ng_run_result result = {0};
     ng_results_file *file = NULL;
     char *command = NULL;
+    char sha256[NG_SHA256_HEX + 1] = "";
+    uint64_t input_bytes = 0;
     int code = 0;
+    if (ng_results_open(output, &file, &err) != NG_OK) {
+        code = fail(&prog, &err);
+        goto cleanup;
+    }
+    arm_signals(file);
+    progress_report("reading", 0.0, &prog);
     if (scheme_flags_load(&f, "run",
                           args.n_positional ? args.positional[0] : NULL,
                           &scheme, &opt.threads, &cloud, &err) != NG_OK ||
-        ng_results_open(output, &file, &err) != NG_OK) {
-        code = cli_fail("run", &err);
+        ng_sha256_file(cloud->file, sha256, &input_bytes, &err) != NG_OK) {
+        code = fail(&prog, &err);
         goto cleanup;
     }
-    temp_path_for_signal = ng_results_temp_path(file);
-    signal(SIGINT, on_signal);
-    signal(SIGTERM, on_signal);
-
+    progress_report("reading", 1.0, &prog);
+    progress_report("radii", 0.0, &prog);
     if (ng_radii_compute(cloud, &scheme, opt.threads, &radii, &err) != NG_OK) {
-        code = cli_fail("run", &err);
+        code = fail(&prog, &err);
         goto cleanup;
     }
-    progress("radii", 1.0, &prog);
+    progress_report("radii", 1.0, &prog);
     if (ng_run_compute(cloud, &radii, &scheme, &opt, &result, &err) != NG_OK) {
-        code = cli_fail("run", &err);
+        code = fail(&prog, &err);
         goto cleanup;
     }
+    progress_break(&prog);
     if (!quiet && result.limited_by_budget)
         fprintf(stderr,
                 "nervegap run: scale limit %.6g chosen to fit the budget "
@@ -216,12 +223,18 @@ int cmd_run(int argc, char **argv)
     ng_run_record rec = {
         .command = command ? command : "",
         .source = cloud->source,
+        .input_file = cloud->file,
+        .input_sha256 = sha256,
+        .input_bytes = input_bytes,
         .n_points = cloud->n,
         .ambient_dim = cloud->dim,
         .metric = ng_metric_name(scheme.metric),
         .radius_rule = rule,
         .law = ng_law_name(scheme.law),
         .scale_limit = result.scale_limit,
+        .scale_auto = opt.scale_auto,
+        .full_scale = result.full_scale,
+        .limited_by_budget = result.limited_by_budget,
         .max_degree = opt.max_degree,
         .truncated = result.truncated,
         .radius = radii.rho,
@@ -236,22 +249,28 @@ int cmd_run(int argc, char **argv)
         .wasserstein1 = result.wasserstein1,
         .wasserstein2 = result.wasserstein2,
         .wasserstein_relative_error = result.wasserstein_relative_error,
+        .threads = ng_threads_used(opt.threads),
+        .peak_memory_bytes = ng_peak_memory_bytes(),
+        .n_stages = prog.n_stages,
+        .stage_names = prog.name_list,
+        .stage_seconds = prog.seconds,
     };
     ng_results_file *committing = file;
     file = NULL; /* commit frees it whatever the outcome */
+    ng_results_set_progress(committing, progress_report, &prog);
     if (ng_results_commit(committing, &rec, result.persistence, &err) !=
         NG_OK) {
-        code = cli_fail("run", &err);
+        code = fail(&prog, &err);
         goto cleanup;
     }
-    temp_path_for_signal = NULL;
+    temp_armed = 0;
     if (!quiet)
         fprintf(stderr, "nervegap run: wrote %s (scale limit %.6g, %zu "
                         "simplices) in %.2f s\n",
                 output, result.scale_limit, result.size.total,
-                seconds_since(&prog.start));
+                progress_elapsed(&prog));
 cleanup:
-    temp_path_for_signal = NULL;
+    temp_armed = 0;
     ng_results_abort(file);
     free(command);
     ng_run_result_free(&result);

@@ -7,8 +7,10 @@
 #include "nervegap/common.h"
 
 int cmd_distance(int argc, char **argv);
+int cmd_export(int argc, char **argv);
 int cmd_radii(int argc, char **argv);
 int cmd_run(int argc, char **argv);
+int cmd_show(int argc, char **argv);
 int cmd_values(int argc, char **argv);
 
 /* Prints "nervegap COMMAND: message" to stderr and returns the exit code of

@@ -13,6 +13,8 @@ static const struct {
 } commands[] = {
     {"run", cmd_run, "Čech and Rips barcodes over adaptive balls (HDF5)"},
     {"radii", cmd_radii, "base radius and birth of every point (CSV)"},
+    {"show", cmd_show, "summary of a results file"},
+    {"export", cmd_export, "a results file as CSV or JSON"},
     {"distance", cmd_distance, "compare two runs' barcodes"},
     {"values", cmd_values, "Rips and Čech values of given simplices (CSV)"},
 };
