@@ -473,11 +473,48 @@ static uint32_t search_bucket(const ng_complex *c, int k, const ng_index *v,
     return NG_POS_NONE;
 }
 
+/* Position of x in the sorted list a[0..n), or NG_POS_NONE. */
+static uint32_t index_in(const ng_index *a, size_t n, ng_index x)
+{
+    size_t lo = 0, hi = n;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (a[mid] < x)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo < n && a[lo] == x ? (uint32_t)lo : NG_POS_NONE;
+}
+
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
 {
     if (k == 0) return v[0] < c->n ? v[0] : NG_POS_NONE;
-    if (v[k] >= c->n) return NG_POS_NONE;
-    return search_bucket(c, k, v, c->start[k][v[k]], c->start[k][v[k] + 1]);
+    ng_index w = v[k];
+    if (w >= c->n) return NG_POS_NONE;
+    /* the edge {v[k-1], w}: w's lower neighbours are its edges of top w */
+    size_t lower = c->start[1][w + 1] - c->start[1][w];
+    uint32_t r = index_in(c->nbr + c->offset[w], lower, v[k - 1]);
+    if (r == NG_POS_NONE) return NG_POS_NONE;
+    size_t pos = c->start[1][w] + r;
+    /* then one lower vertex at a time, within the run of extensions */
+    for (int d = 1; d < k; d++) {
+        size_t lo = c->ext[d][pos], hi = c->ext[d][pos + 1];
+        const ng_index *t = c->vert[d + 1];
+        size_t stride = (size_t)d + 2;
+        ng_index x = v[k - 1 - d];
+        while (lo < hi) {
+            size_t mid = lo + (hi - lo) / 2;
+            if (t[mid * stride] < x)
+                lo = mid + 1;
+            else
+                hi = mid;
+        }
+        if (lo == c->ext[d][pos + 1] || t[lo * stride] != x)
+            return NG_POS_NONE;
+        pos = lo;
+    }
+    return (uint32_t)pos;
 }
 
 /* Galloping search for v in [lo, hi) of its bucket, where v is expected
@@ -496,31 +533,45 @@ static uint32_t gallop_bucket(const ng_complex *c, int k, const ng_index *v,
     return search_bucket(c, k, v, base, end);
 }
 
-size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
-                           uint32_t *restrict out)
+void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
+                          const ng_index *v)
 {
+    it->c = c;
+    it->k = k;
+    it->v = v;
     /* walk the shortest neighbour list, merge-check the others */
     int a = 0;
     for (int i = 1; i <= k; i++)
         if (c->offset[v[i] + 1] - c->offset[v[i]] <
             c->offset[v[a] + 1] - c->offset[v[a]])
             a = i;
-    size_t ptr[NG_COMPLEX_MAX_DIM + 1], end[NG_COMPLEX_MAX_DIM + 1];
+    it->a = a;
     for (int i = 0; i <= k; i++) {
-        ptr[i] = c->offset[v[i]];
-        end[i] = c->offset[v[i] + 1];
+        it->ptr[i] = c->offset[v[i]];
+        it->end[i] = c->offset[v[i] + 1];
     }
-    ng_index tup[NG_COMPLEX_MAX_DIM + 1];
-    size_t m = 0;
-    size_t below = c->start[k + 1][v[k]], below_end = c->start[k + 1][v[k] + 1];
-    for (size_t e = ptr[a]; e < end[a]; e++) {
-        ng_index w = c->nbr[e];
+    it->below = c->start[k + 1][v[k]];
+    it->below_end = c->start[k + 1][v[k] + 1];
+}
+
+uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it)
+{
+    const ng_complex *c = it->c;
+    const ng_index *v = it->v;
+    int k = it->k, a = it->a;
+    ng_index tup[NG_COMPLEX_MAX_DIM + 2];
+    while (it->ptr[a] < it->end[a]) {
+        ng_index w = c->nbr[it->ptr[a]++];
         int common = 1;
         for (int i = 0; i <= k && common; i++) {
             if (i == a) continue;
-            while (ptr[i] < end[i] && c->nbr[ptr[i]] < w) ptr[i]++;
-            if (ptr[i] == end[i]) return m; /* no later w is common */
-            common = c->nbr[ptr[i]] == w;
+            while (it->ptr[i] < it->end[i] && c->nbr[it->ptr[i]] < w)
+                it->ptr[i]++;
+            if (it->ptr[i] == it->end[i]) { /* no later w is common */
+                it->ptr[a] = it->end[a];
+                return NG_POS_NONE;
+            }
+            common = c->nbr[it->ptr[i]] == w;
         }
         if (!common) continue;
         int r = 0, s = 0;
@@ -533,13 +584,24 @@ size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
          * element), so each search starts where the last one ended. */
         uint32_t pos;
         if (w < v[k]) {
-            pos = gallop_bucket(c, k + 1, tup, below, below_end);
-            if (pos != NG_POS_NONE) below = (size_t)pos + 1;
+            pos = gallop_bucket(c, k + 1, tup, it->below, it->below_end);
+            if (pos != NG_POS_NONE) it->below = (size_t)pos + 1;
         } else {
             pos = ng_complex_locate(c, k + 1, tup);
         }
-        if (pos != NG_POS_NONE) out[m++] = pos;
+        if (pos != NG_POS_NONE) return pos;
     }
+    return NG_POS_NONE;
+}
+
+size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
+                           uint32_t *restrict out)
+{
+    ng_cofacet_iter it;
+    ng_cofacet_iter_init(&it, c, k, v);
+    size_t m = 0;
+    for (uint32_t pos; (pos = ng_cofacet_iter_next(&it)) != NG_POS_NONE;)
+        out[m++] = pos;
     return m;
 }
 
@@ -555,8 +617,30 @@ void ng_complex_free(ng_complex *c)
         ng_free(c->start[k]);
         ng_free(c->value[k]);
     }
+    for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) ng_free(c->ext[k]);
     ng_free(c->within);
     ng_free(c);
+}
+
+/* The lower-extension runs of complex_internal.h, by one merge of each
+ * (k+1)-table (its simplices minus their lowest vertex, in order) with the
+ * k-table. Returns 1, or 0 when out of memory. */
+static int build_extensions(ng_complex *c)
+{
+    for (int k = 1; k < c->top_dim; k++) {
+        uint32_t *ext = ng_calloc(c->count[k] + 1, sizeof *ext);
+        if (ext == NULL) return 0;
+        c->ext[k] = ext;
+        const ng_index *up = c->vert[k + 1], *here = c->vert[k];
+        size_t q = 0, m = (size_t)k + 1;
+        for (size_t p = 0; p < c->count[k + 1]; p++) {
+            const ng_index *rho = up + p * (m + 1) + 1;
+            while (memcmp(here + q * m, rho, m * sizeof *rho) != 0) q++;
+            ext[q + 1]++;
+        }
+        for (size_t i = 0; i < c->count[k]; i++) ext[i + 1] += ext[i];
+    }
+    return 1;
 }
 
 /* Values of the k-simplices (k ≥ 1) in parallel: one callback per simplex,
@@ -741,6 +825,7 @@ int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
     }
     ng_free(scratch);
     scratch = NULL;
+    if (!build_extensions(c)) goto nomem;
     if (spec->progress) spec->progress("simplices", 0.05, spec->progress_ctx);
 
     /* values, dimension by dimension (facets first) */

@@ -7,6 +7,16 @@
  * start[k][w+1] − 1; value[k][j * count[k] + pos] is the (monotone) value
  * of that simplex in filtration j; the neighbour lists are sorted, without
  * loops, and symmetric. count[k] < UINT32_MAX, so positions fit uint32_t.
+ *
+ * Lookups by lower extension. Dropping the lowest vertex of a
+ * (k+1)-simplex τ leaves a k-simplex ρ, and in colexicographic order the
+ * (k+1)-simplices sharing ρ are contiguous, ordered by their lowest vertex,
+ * with the runs in the order of their ρ: so ext[k][ρ] .. ext[k][ρ + 1] − 1
+ * are the positions of the (k+1)-simplices ρ ∪ {x}, x < min ρ (k = 1 ..
+ * top_dim − 1). An edge {x, w}, x < w, sits at start[1][w] + (index of x in
+ * w's neighbour list). Locating a simplex is then one search in a
+ * neighbour list and one per further vertex in a run — small, contiguous
+ * ranges — instead of one search in the whole bucket of its top vertex.
  */
 #ifndef NERVEGAP_COMPLEX_INTERNAL_H
 #define NERVEGAP_COMPLEX_INTERNAL_H
@@ -29,6 +39,7 @@ struct ng_complex {
     size_t count[NG_COMPLEX_MAX_DIM + 1];
     ng_index *vert[NG_COMPLEX_MAX_DIM + 1];
     size_t *start[NG_COMPLEX_MAX_DIM + 1];
+    uint32_t *ext[NG_COMPLEX_MAX_DIM]; /* k = 1..top_dim − 1: count[k] + 1 */
     double *value[NG_COMPLEX_MAX_DIM + 1];
     size_t *within; /* n_filtrations × (top_dim + 1): value_j ≤ T counts */
 };
@@ -43,6 +54,25 @@ static inline int in_filtration(double x, double T)
 /* Position of the k-simplex with increasing vertices v[0..k], or
  * NG_POS_NONE. */
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
+
+/* The (k+1)-cofacets of the k-simplex with increasing vertices v[0..k]
+ * (k < top_dim), one at a time, in increasing order of the added vertex —
+ * which is also increasing position (the cofacets below the top vertex lie
+ * in its bucket with keys growing with the added vertex, those above it in
+ * the buckets of later top vertices). v must stay valid while iterating. */
+typedef struct ng_cofacet_iter {
+    const ng_complex *c;
+    int k, a;
+    const ng_index *v;
+    size_t ptr[NG_COMPLEX_MAX_DIM + 1], end[NG_COMPLEX_MAX_DIM + 1];
+    size_t below, below_end;
+} ng_cofacet_iter;
+
+void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
+                          const ng_index *v);
+
+/* The next cofacet's position, or NG_POS_NONE at the end. */
+uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it);
 
 /* Writes the positions of all (k+1)-cofacets of the k-simplex with
  * increasing vertices v[0..k] (k < top_dim) into out, in increasing order

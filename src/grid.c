@@ -6,13 +6,16 @@
  * with the very formula of the scales, so membership is exact), and counts
  * are prefix sums over those indices (bars also leave at the first index
  * with t_i ≥ death). For the quantiles, the factors (and shifts) are ranked
- * once by sorting; simplices are inserted grid index by grid index into a
- * Fenwick tree over the ranks, and the ⌈q·m⌉-th smallest is found by the
- * tree's binary descent: O(N log N) in all, exact.
+ * once by a radix sort; simplices are inserted grid index by grid index
+ * into a bitset over the ranks and a Fenwick tree over blocks of 1024
+ * ranks, and the ⌈q·m⌉-th smallest is found by the tree's binary descent
+ * to its block, then popcounts within the block: exact, O(N log(N/1024))
+ * for the inserts with the tree small enough to stay in cache.
  */
 #include "nervegap/grid.h"
 
 #include "alloc.h"
+#include "order.h"
 
 #include <math.h>
 #include <stdlib.h>
@@ -90,75 +93,87 @@ static void simplex_counts(const ng_complex *c, int j, double T, size_t G,
     }
 }
 
-typedef struct ranked { double value; uint32_t item; } ranked;
 
-static int ranked_cmp(const void *a, const void *b)
+/* Ranks in one block of the order-statistics tree: the Fenwick tree counts
+ * present ranks per block (small enough to stay in cache), a bitset says
+ * which ranks of a block are present. */
+#define BLOCK_BITS 10
+#define BLOCK ((size_t)1 << BLOCK_BITS)
+
+/* The rank of the k-th smallest present item (k ≥ 1, at most the number
+ * present): Fenwick descent to its block, then popcounts over the block's
+ * bitset words. */
+static size_t kth_present(const uint32_t *fen, size_t nb, size_t top,
+                          const uint64_t *bits, size_t k)
 {
-    const ranked *x = a, *y = b;
-    if (x->value != y->value) return x->value < y->value ? -1 : 1;
-    return (x->item > y->item) - (x->item < y->item);
+    size_t idx = 0, need = k;
+    for (size_t step = top; step > 0; step /= 2) {
+        if (idx + step <= nb && fen[idx + step] < need) {
+            idx += step;
+            need -= fen[idx];
+        }
+    }
+    /* block idx (0-based) holds it; need ≥ 1 within the block */
+    const uint64_t *w = bits + idx * (BLOCK / 64);
+    size_t word = 0;
+    for (;; word++) {
+        size_t c = (size_t)__builtin_popcountll(w[word]);
+        if (c >= need) break;
+        need -= c;
+    }
+    uint64_t x = w[word];
+    for (size_t r = 1; r < need; r++) x &= x - 1; /* drop lower set bits */
+    return idx * BLOCK + word * 64 + (size_t)__builtin_ctzll(x);
 }
 
-/* Nearest-rank quantiles and max of values (one per item, present from grid
- * index first[item]) on the grid. empty: the value where none is present. */
-static int order_statistics(const double *values, const size_t *first,
-                            size_t n, size_t G, double empty, double *q_max,
-                            double *q50, double *q90)
+/* Nearest-rank quantiles and max of the items a[0..n) (value, and in pos
+ * the first grid index at which the item is present) on the grid; a is
+ * sorted in place. empty: the value where none is present. */
+static int order_statistics(ng_keyed *a, size_t n, size_t G, double empty,
+                            double *q_max, double *q50, double *q90)
 {
-    ranked *r = ng_malloc(n, sizeof *r);
-    uint32_t *fen = ng_calloc(n + 1, sizeof *fen);
+    if (ng_sort_keyed(a, n) != 0) return NG_ERR_NOMEM;
+    size_t nb = (n + BLOCK - 1) / BLOCK;
+    uint32_t *fen = ng_calloc(nb + 1, sizeof *fen);
+    uint64_t *bits = ng_calloc(nb * (BLOCK / 64) + 1, sizeof *bits);
     size_t *start = ng_calloc(G + 1, sizeof *start);
     uint32_t *by_index = ng_malloc(n, sizeof *by_index);
     int status = NG_OK;
-    if (r == NULL || fen == NULL || start == NULL || by_index == NULL) {
+    if (fen == NULL || bits == NULL || start == NULL || by_index == NULL) {
         status = NG_ERR_NOMEM;
         goto cleanup;
     }
-    for (size_t s = 0; s < n; s++) r[s] = (ranked){values[s], (uint32_t)s};
-    qsort(r, n, sizeof *r, ranked_cmp);
     /* counting sort of ranks by first grid index */
-    for (size_t s = 0; s < n; s++) start[first[s] + 1]++;
+    for (size_t s = 0; s < n; s++) start[a[s].pos + 1]++;
     for (size_t i = 0; i < G; i++) start[i + 1] += start[i];
     for (size_t rank = 0; rank < n; rank++)
-        by_index[start[first[r[rank].item]]++] = (uint32_t)rank;
+        by_index[start[a[rank].pos]++] = (uint32_t)rank;
     /* start[i] is now the end of bucket i */
     size_t top = 1;
-    while (top * 2 <= n) top *= 2;
-    size_t present = 0, pos = 0;
-    double running_max = -INFINITY;
+    while (top * 2 <= nb) top *= 2;
+    size_t present = 0, pos = 0, max_rank = 0;
     for (size_t i = 0; i < G; i++) {
         for (; pos < start[i]; pos++) {
             size_t rank = by_index[pos];
-            for (size_t x = rank + 1; x <= n; x += x & (~x + 1)) fen[x]++;
-            if (r[rank].value > running_max) running_max = r[rank].value;
+            bits[rank / 64] |= (uint64_t)1 << (rank % 64);
+            for (size_t x = rank / BLOCK + 1; x <= nb; x += x & (~x + 1))
+                fen[x]++;
+            if (rank > max_rank) max_rank = rank; /* ranks sort the values */
             present++;
         }
         if (present == 0) {
             q_max[i] = q50[i] = q90[i] = empty;
             continue;
         }
-        q_max[i] = running_max;
-        const double qs[2] = {0.5, 0.9};
-        double *outs[2] = {q50, q90};
-        for (int q = 0; q < 2; q++) {
-            /* k = ⌈q·m⌉ in exact integer arithmetic: q is 5/10 or 9/10 */
-            size_t num = qs[q] == 0.5 ? 5 : 9;
-            size_t k = (num * present + 9) / 10;
-            if (k == 0) k = 1;
-            /* Fenwick descent: the smallest rank with prefix count ≥ k */
-            size_t idx = 0, need = k;
-            for (size_t step = top; step > 0; step /= 2) {
-                if (idx + step <= n && fen[idx + step] < need) {
-                    idx += step;
-                    need -= fen[idx];
-                }
-            }
-            outs[q][i] = r[idx].value; /* rank idx (0-based) */
-        }
+        q_max[i] = a[max_rank].value;
+        /* k = ⌈q·m⌉ in exact integer arithmetic: q is 5/10 or 9/10 */
+        size_t k50 = (5 * present + 9) / 10, k90 = (9 * present + 9) / 10;
+        q50[i] = a[kth_present(fen, nb, top, bits, k50 ? k50 : 1)].value;
+        q90[i] = a[kth_present(fen, nb, top, bits, k90 ? k90 : 1)].value;
     }
 cleanup:
-    ng_free(r);
     ng_free(fen);
+    ng_free(bits);
     ng_free(start);
     ng_free(by_index);
     return status;
@@ -196,8 +211,7 @@ int ng_grid_compute_progress(const ng_complex *c, const ng_persistence *p,
     out->shift_q50 = ng_malloc(G, sizeof(double));
     out->shift_q90 = ng_malloc(G, sizeof(double));
     if (L > 0) out->hilbert = ng_malloc((size_t)L * G, w0 * sizeof(int64_t));
-    double *factor = NULL, *shift = NULL;
-    size_t *first_f = NULL, *first_s = NULL;
+    ng_keyed *factor = NULL, *shift = NULL;
     int status = NG_OK;
     if (!out->scale || !out->betti_cech || !out->betti_rips ||
         !out->simplices_cech || !out->simplices_rips || !out->factor_max ||
@@ -246,9 +260,7 @@ int ng_grid_compute_progress(const ng_complex *c, const ng_persistence *p,
     }
     factor = ng_malloc(total, sizeof *factor);
     shift = ng_malloc(total, sizeof *shift);
-    first_f = ng_malloc(total, sizeof *first_f);
-    first_s = ng_malloc(total, sizeof *first_s);
-    if (!factor || !shift || !first_f || !first_s) goto nomem;
+    if (!factor || !shift) goto nomem;
     size_t nf = 0, ns = 0;
     for (int k = 2; k <= ng_complex_top_dim(c); k++) {
         const double *cv = ng_complex_values(c, k, 0);
@@ -257,19 +269,16 @@ int ng_grid_compute_progress(const ng_complex *c, const ng_persistence *p,
         for (size_t s = 0; s < n; s++) {
             size_t i = ng_grid_first_index(rv[s], T, G);
             if (i >= G) continue;
-            shift[ns] = cv[s] - rv[s];
-            first_s[ns++] = i;
-            if (rv[s] > 0.0) {
-                factor[nf] = cv[s] / rv[s];
-                first_f[nf++] = i;
-            }
+            shift[ns++] = (ng_keyed){cv[s] - rv[s], (uint32_t)i};
+            if (rv[s] > 0.0)
+                factor[nf++] = (ng_keyed){cv[s] / rv[s], (uint32_t)i};
         }
     }
-    if (order_statistics(factor, first_f, nf, G, 1.0, out->factor_max,
+    if (order_statistics(factor, nf, G, 1.0, out->factor_max,
                          out->factor_q50, out->factor_q90) != NG_OK)
         goto nomem;
     if (progress) progress("grid", 0.6, ctx);
-    if (order_statistics(shift, first_s, ns, G, 0.0, out->shift_max,
+    if (order_statistics(shift, ns, G, 0.0, out->shift_max,
                          out->shift_q50, out->shift_q90) != NG_OK)
         goto nomem;
     goto done;
@@ -280,7 +289,5 @@ fail:
 done:
     ng_free(factor);
     ng_free(shift);
-    ng_free(first_f);
-    ng_free(first_s);
     return status;
 }

@@ -70,55 +70,18 @@
 
 #include "alloc.h"
 #include "complex_internal.h"
+#include "order.h"
 
 #include <math.h>
 #include <omp.h>
 #include <stdlib.h>
 #include <string.h>
 
-typedef struct entry {
-    double value;
-    uint32_t pos;
-} entry;
+typedef ng_keyed entry;
 
 static int entry_less(entry a, entry b)
 {
     return a.value < b.value || (a.value == b.value && a.pos < b.pos);
-}
-
-/* An unsigned key with the order of the double x (−0 taken as +0, as the
- * comparison x < y does; no NaN). */
-static uint64_t order_key(double x)
-{
-    uint64_t b;
-    if (x == 0) x = 0.0;
-    memcpy(&b, &x, sizeof b);
-    return b >> 63 ? ~b : b | ((uint64_t)1 << 63);
-}
-
-/* Sorts a[0..n) by (value, pos), given that a is in increasing pos order:
- * a stable least-significant-digit radix sort on the value's order key,
- * 16 bits per pass; tmp has room for n entries, count for 65536. */
-static void sort_entries(entry *a, entry *tmp, size_t n, size_t *count)
-{
-    entry *src = a, *dst = tmp;
-    for (int shift = 0; shift < 64; shift += 16) {
-        memset(count, 0, 65536 * sizeof *count);
-        for (size_t i = 0; i < n; i++)
-            count[(order_key(src[i].value) >> shift) & 0xFFFF]++;
-        size_t sum = 0;
-        for (size_t d = 0; d < 65536; d++) {
-            size_t c = count[d];
-            count[d] = sum;
-            sum += c;
-        }
-        for (size_t i = 0; i < n; i++)
-            dst[count[(order_key(src[i].value) >> shift) & 0xFFFF]++] = src[i];
-        entry *t = src;
-        src = dst;
-        dst = t;
-    }
-    /* four passes: the result is back in a */
 }
 
 /* A recorded column of degree k: the simplex col plus the simplices
@@ -265,6 +228,28 @@ static size_t cofacets_within(const work *w, int k, uint32_t q,
     return r;
 }
 
+/* The earliest cofacet of the k-simplex q within T, into *first; returns
+ * 0 when there is none. Cofacets come in increasing position, and none is
+ * earlier in value than q itself, so the first one with q's value is the
+ * earliest and the walk stops there. */
+static size_t earliest_cofacet(const work *w, int k, uint32_t q,
+                               entry *first)
+{
+    const double *cv = values_of(w, k + 1);
+    double own = values_of(w, k)[q];
+    ng_cofacet_iter it;
+    ng_cofacet_iter_init(&it, w->c, k, vertices_of(w, k, q));
+    size_t m = 0;
+    for (uint32_t pos; (pos = ng_cofacet_iter_next(&it)) != NG_POS_NONE;) {
+        double v = cv[pos];
+        if (!in_filtration(v, w->T)) continue;
+        entry e = {v, pos};
+        if (m++ == 0 || entry_less(e, *first)) *first = e;
+        if (v <= own) break;
+    }
+    return m;
+}
+
 static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
 {
     entry first;
@@ -372,43 +357,25 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
  * the pair (σ, τ); every other column is PENDING. The outcome of a column
  * depends on the filtration alone, and τ has one latest facet, so the
  * threads never write the same owner entry: the result does not depend on
- * the schedule. Returns 1, or 0 when out of memory. */
-static int apparent_pass(work *w, int k, const entry *cols, size_t ncols,
-                         uint32_t *owner, uint32_t *death, int inner)
+ * the schedule. */
+static void apparent_pass(work *w, int k, const entry *cols, size_t ncols,
+                          uint32_t *owner, uint32_t *death, int inner)
 {
-    size_t slot = w->c->max_degree + 1;
-    entry *scratch = ng_malloc((size_t)inner * slot, sizeof *scratch);
-    uint32_t *cof = ng_malloc((size_t)inner * slot, sizeof *cof);
-    if (scratch == NULL || cof == NULL) {
-        ng_free(scratch);
-        ng_free(cof);
-        return 0;
-    }
     long long total = (long long)ncols;
-#pragma omp parallel num_threads(inner)
-    {
-        int t = omp_get_thread_num();
-        entry *sc = scratch + (size_t)t * slot;
-        uint32_t *cf = cof + (size_t)t * slot;
-#pragma omp for schedule(dynamic, 512)
-        for (long long i = 0; i < total; i++) {
-            uint32_t p = cols[i].pos;
-            entry first;
-            size_t m = cofacets_within(w, k, p, &first, sc, cf);
-            if (m == 0) {
-                death[i] = NG_POS_NONE;
-            } else if (latest_facet(w, k, first.pos, p)) {
-                death[i] = first.pos;
-                w->red[i] = (reducer){p, 0, 0};
-                owner[first.pos] = (uint32_t)i;
-            } else {
-                death[i] = PENDING;
-            }
+#pragma omp parallel for schedule(dynamic, 512) num_threads(inner)
+    for (long long i = 0; i < total; i++) {
+        uint32_t p = cols[i].pos;
+        entry first;
+        if (earliest_cofacet(w, k, p, &first) == 0) {
+            death[i] = NG_POS_NONE;
+        } else if (latest_facet(w, k, first.pos, p)) {
+            death[i] = first.pos;
+            w->red[i] = (reducer){p, 0, 0};
+            owner[first.pos] = (uint32_t)i;
+        } else {
+            death[i] = PENDING;
         }
     }
-    ng_free(scratch);
-    ng_free(cof);
-    return 1;
 }
 
 /* Union–find root with path halving. */
@@ -429,23 +396,15 @@ static int sorted_columns(const work *w, int k, const uint32_t *cleared,
     const double *val = values_of(w, k);
     size_t cnt = w->c->count[k], m = 0;
     entry *a = ng_malloc(cnt, sizeof *a);
-    entry *tmp = NULL;
     if (a == NULL) return 0;
     for (size_t p = 0; p < cnt; p++)
         if (in_filtration(val[p], w->T) &&
             (cleared == NULL || cleared[p] == NG_POS_NONE))
             a[m++] = (entry){val[p], (uint32_t)p};
-    tmp = ng_malloc(m, sizeof *tmp);
-    size_t *count = ng_malloc(65536, sizeof *count);
-    if (tmp == NULL || count == NULL) {
+    if (ng_sort_keyed(a, m) != 0) {
         ng_free(a);
-        ng_free(tmp);
-        ng_free(count);
         return 0;
     }
-    sort_entries(a, tmp, m, count);
-    ng_free(tmp);
-    ng_free(count);
     *out = a;
     *len = m;
     return 1;
@@ -597,9 +556,8 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         ng_free(w.red);
         w.red = ng_malloc(ncols, sizeof *w.red);
         death = ng_malloc(ncols, sizeof *death);
-        if (w.red == NULL || death == NULL ||
-            !apparent_pass(&w, k, cols, ncols, owner, death, inner))
-            goto cleanup;
+        if (w.red == NULL || death == NULL) goto cleanup;
+        apparent_pass(&w, k, cols, ncols, owner, death, inner);
         /* the other columns, latest simplex first: they never meet the
          * pivot of an apparent pair of an earlier column (that cofacet's
          * latest facet is the earlier simplex), so doing the apparent pairs
