@@ -365,7 +365,18 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
         b += s->count[k] * ((size_t)(k + 1) * sizeof(ng_index) +
                             (size_t)n_filtrations * sizeof(double)) +
              (n + 1) * sizeof(size_t);
-    s->bytes_build = b;
+    /* extension runs (4 B) and cofacet list starts (8 B) per simplex of
+     * dimension 1..top − 1; the cofacet lists (k + 1 entries of 4 B per
+     * k-simplex, k ≥ 2), and the facet positions they are made from while
+     * they are being built (as much again, for the largest dimension) */
+    size_t lists = 0, largest = 0;
+    for (int k = 1; k < top_dim; k++) b += s->count[k] * 12;
+    for (int k = 2; k <= top_dim; k++) {
+        size_t bytes = s->count[k] * (size_t)(k + 1) * sizeof(uint32_t);
+        lists += bytes;
+        if (bytes > largest) largest = bytes;
+    }
+    s->bytes_build = b + lists + largest;
     /* degree 0: union-find (4 B a vertex), sorted edges and their sort
      * buffer (32 B), joining marks (4 B); degree k: sorted columns and sort
      * buffer (32 B), cleared marks (4 B) and reducer records (16 B) per
@@ -534,11 +545,17 @@ static uint32_t gallop_bucket(const ng_complex *c, int k, const ng_index *v,
 }
 
 void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
-                          const ng_index *v)
+                          uint32_t pos, const ng_index *v)
 {
     it->c = c;
     it->k = k;
     it->v = v;
+    it->list = it->list_end = NULL;
+    if (k >= 1 && c->cof[k] != NULL) {
+        it->list = c->cof[k] + c->cof_start[k][pos];
+        it->list_end = c->cof[k] + c->cof_start[k][pos + 1];
+        return;
+    }
     /* walk the shortest neighbour list, merge-check the others */
     int a = 0;
     for (int i = 1; i <= k; i++)
@@ -556,6 +573,8 @@ void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
 
 uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it)
 {
+    if (it->list != NULL)
+        return it->list < it->list_end ? *it->list++ : NG_POS_NONE;
     const ng_complex *c = it->c;
     const ng_index *v = it->v;
     int k = it->k, a = it->a;
@@ -594,14 +613,15 @@ uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it)
     return NG_POS_NONE;
 }
 
-size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
+size_t ng_complex_cofacets(const ng_complex *c, int k, uint32_t pos,
                            uint32_t *restrict out)
 {
     ng_cofacet_iter it;
-    ng_cofacet_iter_init(&it, c, k, v);
+    ng_cofacet_iter_init(&it, c, k, pos,
+                         c->vert[k] + (size_t)pos * (size_t)(k + 1));
     size_t m = 0;
-    for (uint32_t pos; (pos = ng_cofacet_iter_next(&it)) != NG_POS_NONE;)
-        out[m++] = pos;
+    for (uint32_t q; (q = ng_cofacet_iter_next(&it)) != NG_POS_NONE;)
+        out[m++] = q;
     return m;
 }
 
@@ -617,7 +637,11 @@ void ng_complex_free(ng_complex *c)
         ng_free(c->start[k]);
         ng_free(c->value[k]);
     }
-    for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) ng_free(c->ext[k]);
+    for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) {
+        ng_free(c->ext[k]);
+        ng_free(c->cof_start[k]);
+        ng_free(c->cof[k]);
+    }
     ng_free(c->within);
     ng_free(c);
 }
@@ -643,6 +667,32 @@ static int build_extensions(ng_complex *c)
     return 1;
 }
 
+/* The cofacet lists of the (k−1)-simplices from the facet positions of the
+ * k-simplices (facets: count[k] × (k + 1)): a counting sort, filled in
+ * increasing cofacet position so that every list comes out sorted. Returns
+ * 1, or 0 when out of memory. */
+static int build_cofacets(ng_complex *c, int k, const uint32_t *facets)
+{
+    size_t below = c->count[k - 1], cnt = c->count[k], m = (size_t)k + 1;
+    size_t *start = ng_calloc(below + 1, sizeof *start);
+    uint32_t *list = ng_malloc(cnt, m * sizeof *list);
+    if (start == NULL || list == NULL) {
+        ng_free(start);
+        ng_free(list);
+        return 0;
+    }
+    for (size_t i = 0; i < cnt * m; i++) start[facets[i] + 1]++;
+    for (size_t f = 0; f < below; f++) start[f + 1] += start[f];
+    for (size_t p = 0; p < cnt; p++)
+        for (size_t r = 0; r < m; r++)
+            list[start[facets[p * m + r]]++] = (uint32_t)p;
+    for (size_t f = below; f > 0; f--) start[f] = start[f - 1];
+    start[0] = 0;
+    c->cof_start[k - 1] = start;
+    c->cof[k - 1] = list;
+    return 1;
+}
+
 /* Values of the k-simplices (k ≥ 1) in parallel: one callback per simplex,
  * raised to the max over facets. Returns NG_OK or the first failure in
  * position order (so the message does not depend on the schedule). */
@@ -655,7 +705,8 @@ typedef struct value_progress {
 #define VALUE_PROGRESS_STEP 4096
 
 static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
-                          int nt, value_progress *vp, ng_error *err)
+                          int nt, value_progress *vp, uint32_t *facets,
+                          ng_error *err)
 {
     int L = c->n_filtrations;
     size_t cnt = c->count[k], below = c->count[k - 1];
@@ -703,6 +754,7 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
                 for (int i = 0; i <= k; i++)
                     if (i != skip) facet[r++] = v[i];
                 uint32_t f = ng_complex_locate(c, k - 1, facet);
+                if (facets) facets[(size_t)p * (size_t)(k + 1) + (size_t)skip] = f;
                 for (int j = 0; j < L; j++) {
                     double fv = c->value[k - 1][(size_t)j * below + f];
                     if (fv > val[j]) val[j] = fv;
@@ -839,7 +891,17 @@ int ng_complex_build(const ng_complex_spec *spec, ng_complex **out,
     for (int k = 1; k <= top; k++) vp.total += (double)c->count[k];
     if (spec->progress) spec->progress("simplices", 0.1, spec->progress_ctx);
     for (int k = 1; k <= top; k++) {
-        status = compute_values(c, k, spec, nt, &vp, err);
+        uint32_t *facets = NULL;
+        if (k >= 2) {
+            facets = ng_malloc(c->count[k], (size_t)(k + 1) * sizeof *facets);
+            if (facets == NULL) goto nomem;
+        }
+        status = compute_values(c, k, spec, nt, &vp, facets, err);
+        if (status == NG_OK && facets && !build_cofacets(c, k, facets)) {
+            ng_free(facets);
+            goto nomem;
+        }
+        ng_free(facets);
         if (status != NG_OK) goto fail;
     }
     for (int j = 0; j < L; j++)

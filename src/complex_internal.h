@@ -17,6 +17,12 @@
  * w's neighbour list). Locating a simplex is then one search in a
  * neighbour list and one per further vertex in a run — small, contiguous
  * ranges — instead of one search in the whole bucket of its top vertex.
+ *
+ * Cofacet lists. The reduction asks for the cofacets of every column, often
+ * many times; for k ≥ 1 they are stored (the transpose of the facet
+ * positions found while raising each value to its facets'), so that
+ * enumerating them is one read of a contiguous list. The cofacets of a
+ * vertex (edges) are never stored: degree 0 is reduced by union–find.
  */
 #ifndef NERVEGAP_COMPLEX_INTERNAL_H
 #define NERVEGAP_COMPLEX_INTERNAL_H
@@ -40,6 +46,11 @@ struct ng_complex {
     ng_index *vert[NG_COMPLEX_MAX_DIM + 1];
     size_t *start[NG_COMPLEX_MAX_DIM + 1];
     uint32_t *ext[NG_COMPLEX_MAX_DIM]; /* k = 1..top_dim − 1: count[k] + 1 */
+    /* cofacet lists, k = 1..top_dim − 1: the (k+1)-cofacets of the
+     * k-simplex p are cof[k][cof_start[k][p] .. cof_start[k][p + 1]), in
+     * increasing position */
+    size_t *cof_start[NG_COMPLEX_MAX_DIM];
+    uint32_t *cof[NG_COMPLEX_MAX_DIM];
     double *value[NG_COMPLEX_MAX_DIM + 1];
     size_t *within; /* n_filtrations × (top_dim + 1): value_j ≤ T counts */
 };
@@ -64,20 +75,22 @@ typedef struct ng_cofacet_iter {
     const ng_complex *c;
     int k, a;
     const ng_index *v;
+    const uint32_t *list, *list_end; /* stored cofacets, when k ≥ 1 */
     size_t ptr[NG_COMPLEX_MAX_DIM + 1], end[NG_COMPLEX_MAX_DIM + 1];
     size_t below, below_end;
 } ng_cofacet_iter;
 
+/* The cofacets of the k-simplex at position pos, with vertices v. */
 void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
-                          const ng_index *v);
+                          uint32_t pos, const ng_index *v);
 
 /* The next cofacet's position, or NG_POS_NONE at the end. */
 uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it);
 
-/* Writes the positions of all (k+1)-cofacets of the k-simplex with
- * increasing vertices v[0..k] (k < top_dim) into out, in increasing order
- * of the added vertex, and returns their number (≤ c->max_degree). */
-size_t ng_complex_cofacets(const ng_complex *c, int k, const ng_index *v,
+/* Writes the positions of all (k+1)-cofacets of the k-simplex at position
+ * pos (k < top_dim) into out, in increasing order, and returns their number
+ * (≤ c->max_degree). */
+size_t ng_complex_cofacets(const ng_complex *c, int k, uint32_t pos,
                            uint32_t *restrict out);
 
 #endif

@@ -216,7 +216,7 @@ static size_t cofacets_within(const work *w, int k, uint32_t q,
                               uint32_t *restrict cof)
 {
     const double *cv = values_of(w, k + 1);
-    size_t m = ng_complex_cofacets(w->c, k, vertices_of(w, k, q), cof);
+    size_t m = ng_complex_cofacets(w->c, k, q, cof);
     size_t r = 0;
     for (size_t i = 0; i < m; i++) {
         double v = cv[cof[i]];
@@ -238,7 +238,7 @@ static size_t earliest_cofacet(const work *w, int k, uint32_t q,
     const double *cv = values_of(w, k + 1);
     double own = values_of(w, k)[q];
     ng_cofacet_iter it;
-    ng_cofacet_iter_init(&it, w->c, k, vertices_of(w, k, q));
+    ng_cofacet_iter_init(&it, w->c, k, q, vertices_of(w, k, q));
     size_t m = 0;
     for (uint32_t pos; (pos = ng_cofacet_iter_next(&it)) != NG_POS_NONE;) {
         double v = cv[pos];

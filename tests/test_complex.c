@@ -272,7 +272,7 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
             /* cofacets against every common neighbour */
             if (k < top) {
                 uint32_t cof[64];
-                size_t m = ng_complex_cofacets(c, k, v, cof);
+                size_t m = ng_complex_cofacets(c, k, (uint32_t)s, cof);
                 size_t want_m = 0;
                 for (ng_index w = 0; w < n; w++) {
                     int common = 1;
