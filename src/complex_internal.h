@@ -87,6 +87,17 @@ void ng_cofacet_iter_init(ng_cofacet_iter *it, const ng_complex *c, int k,
 /* The next cofacet's position, or NG_POS_NONE at the end. */
 uint32_t ng_cofacet_iter_next(ng_cofacet_iter *it);
 
+/* The stored cofacets of the k-simplex at position pos (1 ≤ k < top_dim),
+ * in increasing position: *len of them. */
+static inline const uint32_t *ng_complex_cofacet_list(const ng_complex *c,
+                                                      int k, uint32_t pos,
+                                                      size_t *len)
+{
+    size_t a = c->cof_start[k][pos], b = c->cof_start[k][pos + 1];
+    *len = b - a;
+    return c->cof[k] + a;
+}
+
 /* Writes the positions of all (k+1)-cofacets of the k-simplex at position
  * pos (k < top_dim) into out, in increasing order, and returns their number
  * (≤ c->max_degree). */

@@ -109,7 +109,6 @@ typedef struct work {
     double T;
     entry *heap;
     size_t heap_n, heap_cap;
-    uint32_t *cof; /* max_degree + 1 */
     vec32 vcur;    /* V of the column being reduced */
     vec32 vstore;  /* V of the recorded columns */
     reducer *red;
@@ -209,16 +208,23 @@ static int heap_pivot(work *w, entry *pivot)
     return 0;
 }
 
-/* Cofacets of the k-simplex q within T, as entries in w->cof order; returns
- * their number and writes the earliest to *first (when any). */
+/* How far ahead the value of a cofacet is fetched: the values of a
+ * column's cofacets lie all over the table, so each read would otherwise
+ * wait for memory. */
+#define PREFETCH_AHEAD 8
+
+/* Cofacets of the k-simplex q within T, as entries in position order;
+ * returns their number and writes the earliest to *first (when any). */
 static size_t cofacets_within(const work *w, int k, uint32_t q,
-                              entry *first, entry *restrict out,
-                              uint32_t *restrict cof)
+                              entry *first, entry *restrict out)
 {
     const double *cv = values_of(w, k + 1);
-    size_t m = ng_complex_cofacets(w->c, k, q, cof);
+    size_t m;
+    const uint32_t *cof = ng_complex_cofacet_list(w->c, k, q, &m);
     size_t r = 0;
     for (size_t i = 0; i < m; i++) {
+        if (i + PREFETCH_AHEAD < m)
+            __builtin_prefetch(cv + cof[i + PREFETCH_AHEAD]);
         double v = cv[cof[i]];
         if (!in_filtration(v, w->T)) continue;
         entry e = {v, cof[i]};
@@ -237,13 +243,14 @@ static size_t earliest_cofacet(const work *w, int k, uint32_t q,
 {
     const double *cv = values_of(w, k + 1);
     double own = values_of(w, k)[q];
-    ng_cofacet_iter it;
-    ng_cofacet_iter_init(&it, w->c, k, q, vertices_of(w, k, q));
-    size_t m = 0;
-    for (uint32_t pos; (pos = ng_cofacet_iter_next(&it)) != NG_POS_NONE;) {
-        double v = cv[pos];
+    size_t len, m = 0;
+    const uint32_t *cof = ng_complex_cofacet_list(w->c, k, q, &len);
+    for (size_t i = 0; i < len; i++) {
+        if (i + PREFETCH_AHEAD < len)
+            __builtin_prefetch(cv + cof[i + PREFETCH_AHEAD]);
+        double v = cv[cof[i]];
         if (!in_filtration(v, w->T)) continue;
-        entry e = {v, pos};
+        entry e = {v, cof[i]};
         if (m++ == 0 || entry_less(e, *first)) *first = e;
         if (v <= own) break;
     }
@@ -253,7 +260,7 @@ static size_t earliest_cofacet(const work *w, int k, uint32_t q,
 static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
 {
     entry first;
-    size_t m = cofacets_within(w, k, q, &first, scratch, w->cof);
+    size_t m = cofacets_within(w, k, q, &first, scratch);
     for (size_t i = 0; i < m; i++)
         if (!heap_push(w, scratch[i])) return 0;
     return 1;
@@ -315,7 +322,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
                          uint32_t *owner, entry *scratch, uint32_t *death)
 {
     entry first;
-    size_t m = cofacets_within(w, k, p, &first, scratch, w->cof);
+    size_t m = cofacets_within(w, k, p, &first, scratch);
     w->heap_n = 0;
     for (size_t r = 0; r < m; r++)
         if (!heap_push(w, scratch[r])) return 0;
@@ -522,7 +529,6 @@ static int make_bars(const work *w, int k, ng_bars *out)
 static void work_release(work *w)
 {
     ng_free(w->heap);
-    ng_free(w->cof);
     ng_free(w->vcur.a);
     ng_free(w->vstore.a);
     ng_free(w->red);
@@ -541,10 +547,9 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
     w.T = c->scale_limit;
     uint32_t *cleared = NULL, *owner = NULL, *death = NULL;
     entry *cols = NULL, *scratch = NULL;
-    w.cof = ng_malloc(c->max_degree + 1, sizeof *w.cof);
     scratch = ng_malloc(c->max_degree + 1, sizeof *scratch);
     cleared = ng_malloc(c->count[1], sizeof *cleared);
-    if (w.cof == NULL || scratch == NULL || cleared == NULL) goto cleanup;
+    if (scratch == NULL || cleared == NULL) goto cleanup;
     for (size_t e = 0; e < c->count[1]; e++) cleared[e] = NG_POS_NONE;
     if (!reduce_degree0(&w, cleared)) goto cleanup;
     for (int k = 1; k <= D; k++) {
