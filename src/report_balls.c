@@ -84,10 +84,11 @@ static int read_points(report_ctx *c, ng_cloud **cloud)
         return NG_OK;
     }
     if (ng_cloud_read(path, cloud, &e) != NG_OK) {
+        if (e.code == NG_ERR_NOMEM)
+            return ng_error_set(c->err, NG_ERR_NOMEM, "%s", e.message);
         if (given)
-            return ng_error_set(c->err, e.code == NG_ERR_NOMEM ? e.code
-                                                               : NG_ERR_INPUT,
-                                "--points: %s", e.message);
+            return ng_error_set(c->err, NG_ERR_INPUT, "--points: %s",
+                                e.message);
         snprintf(b->reason, sizeof b->reason,
                  "the recorded input %s cannot be read (%s); give "
                  "--points FILE", path, e.message);

@@ -644,8 +644,16 @@ void report_curves(report_ctx *c)
 
 /* ---- the Hilbert function ---- */
 
+/* Position of a count v in the colour map: a square-root scale, so that
+ * the few long-lived classes (counts 1 and 2 where small loops number
+ * dozens) stay visible next to the peak. */
+static double count_colour(double v, double vmax)
+{
+    return sqrt(fmax(v, 0) / vmax);
+}
 
-/* A vertical colour scale for values 0..vmax at (x, y), h high. */
+/* A vertical colour scale for counts 0..vmax at (x, y), h high, with
+ * its ticks at their square-root positions. */
 static void colour_scale(ng_svg *g, double x, double y, double h,
                          double vmax, const char *label)
 {
@@ -657,22 +665,28 @@ static void colour_scale(ng_svg *g, double x, double y, double h,
         double y0 = y + h - (i + 1) * h / steps;
         ng_svg_rect(g, x, y0, 16, h / steps + 0.4, &st);
     }
-    ng_svg_plot p; /* only its y axis: the ticks of 0..vmax */
-    ng_svg_plot_init(&p, x, y, 16, h, 0, 1, 0, 0, vmax, 0);
+    ng_svg_ticks t;
+    ng_svg_ticks_make(0, vmax, (int)(h / 30) + 2, 0, &t);
     const ng_svg_style axis = {NG_SVG_AXIS, NULL, 1, 0, NULL};
     const ng_svg_font tick = {11, NG_SVG_START, 0, NULL, 0, "tick"};
     ng_svg_rect(g, x, y, 16, h, &axis);
     ng_svg_printf(g, "<g class=\"axis colour-scale\" data-min=\"0\" "
                      "data-max=\"%.17g\">\n", vmax);
     char buf[32];
-    for (int i = 0; i < p.ya.ticks.count; i++) {
-        double yy = ng_svg_py(&p, p.ya.ticks.first + i * p.ya.ticks.step);
+    double last = INFINITY;
+    for (int i = 0; i < t.count; i++) {
+        double v = t.first + i * t.step;
+        double yy = y + h - count_colour(v, vmax) * h;
+        if (last - yy < 12 && i + 1 < t.count) continue; /* crowded */
         ng_svg_line(g, x + 16, yy, x + 20, yy, &axis);
-        ng_svg_tick_label(&p.ya.ticks, i, buf, sizeof buf);
+        ng_svg_tick_label(&t, i, buf, sizeof buf);
         ng_svg_text(g, x + 23, yy + 4, buf, &tick);
+        last = yy;
     }
     const ng_svg_font lf = {12, NG_SVG_START, 0, NULL, 0, "axis-label"};
-    ng_svg_text(g, x - 4, y - 8, label, &lf);
+    ng_svg_text(g, x - 4, y - 22, label, &lf);
+    const ng_svg_font sf = {10.5, NG_SVG_START, 0, "#444444", 0, NULL};
+    ng_svg_text(g, x - 4, y - 8, "square-root scale", &sf);
     ng_svg_printf(g, "</g>\n");
 }
 
@@ -720,6 +734,7 @@ void report_hilbert(report_ctx *c)
         ng_svg_plot p;
         ng_svg_plot_init(&p, left, BOX_TITLE, pw, ph, 0, tmax_of(c), 0, 0,
                          rows, 0);
+        ng_svg_plot_axes(g, &p, report_scale_label(r), NULL); /* under */
         /* rows from the bottom: Čech (λ = 1 or δ = 0), the slices by
          * value, Rips (∞) */
         int64_t vmax = 1;
@@ -750,7 +765,8 @@ void report_hilbert(report_ctx *c)
                 double t1 = fmin(r->scale_limit,
                                  r->grid.scale[e - 1] + cell / 2);
                 char hex[8];
-                ng_svg_hex(ng_svg_sequential((double)v / (double)vmax), hex);
+                ng_svg_hex(ng_svg_sequential(count_colour((double)v, (double)vmax)),
+                           hex);
                 const ng_svg_style st = {NULL, hex, 0, 0, NULL};
                 double x0 = ng_svg_px(&p, t0);
                 ng_svg_rect(g, x0, y0, ng_svg_px(&p, t1) - x0 + 0.3,
@@ -766,14 +782,15 @@ void report_hilbert(report_ctx *c)
                               sizeof lab);
             ng_svg_text(g, left - 6, (y0 + y1) / 2 + 4, lab, &rl);
         }
-        ng_svg_plot_axes(g, &p, report_scale_label(r), NULL);
+        const ng_svg_style frame = {NG_SVG_AXIS, NULL, 1, 0, NULL};
+        ng_svg_rect(g, p.x, p.y, p.w, p.h, &frame);
         const ng_svg_font yl = {12, NG_SVG_MIDDLE, 0, NULL, -90,
                                 "axis-label"};
         ng_svg_text(g, left - 100, p.y + ph / 2,
                     factor ? "enlargement λ" : "shift δ (data units)", &yl);
         char cl[32];
         snprintf(cl, sizeof cl, "β%d (count)", k);
-        colour_scale(g, left + pw + 30, p.y + 14, fmax(ph - 14, 60),
+        colour_scale(g, left + pw + 30, p.y + 28, fmax(ph - 28, 60),
                      (double)vmax, cl);
         ng_svg_group_end(g);
         y += BOX_TITLE + fmax(ph, 74) + BOX_AXIS + 16;

@@ -215,6 +215,7 @@ int ng_unfilled_compute(const ng_space *s, double t, size_t max_candidates,
     out->in_unfilled = ng_calloc(n, 1);
     if (out->triangle == NULL || out->in_unfilled == NULL) goto nomem;
     for (int w = 0; w < team; w++) {
+        if (per[w].count == 0) continue; /* tri may be NULL */
         memcpy(out->triangle + 3 * out->count, per[w].tri,
                per[w].count * 3 * sizeof *out->triangle);
         out->count += per[w].count;
