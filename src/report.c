@@ -411,12 +411,14 @@ int ng_report_build(const ng_results *a, const ng_results *b,
     if (status != NG_OK) goto cleanup;
     if (c.n_runs == 1) {
         summary_one(a, &summary);
-        if (c.balls.ready)
+        for (int i = 0; i < c.n_notes; i++) /* from reading the points */
+            add_line(&summary, "note: %s", c.notes[i]);
+        if (c.balls.ready) {
             add_line(&summary, "ball picture: %s", c.balls.at_rule);
-        else
+        } else {
             add_line(&summary, "no ball picture: %s", c.balls.reason);
-        if (!c.balls.ready)
             report_note(&c, "no ball picture: %s", c.balls.reason);
+        }
     } else {
         status = summary_compare(&c, &summary);
         if (status != NG_OK) goto cleanup;
@@ -427,9 +429,6 @@ int ng_report_build(const ng_results *a, const ng_results *b,
     report_hilbert(&c);
     report_radii(&c);
     report_balls_draw(&c);
-    for (int i = 0; i < c.n_notes; i++)
-        if (strncmp(c.notes[i], "no ball picture", 15) != 0)
-            add_line(&summary, "note: %s", c.notes[i]);
     for (int i = 0; i < c.n_sections; i++)
         c.failed |= c.section[i].body.failed;
     if (c.failed || summary.failed) goto nomem;
