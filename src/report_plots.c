@@ -30,21 +30,6 @@ typedef struct flow {
     double x, y, row_h;
 } flow;
 
-/* Places a box of w × h: on the current row when it fits, else on a new
- * one. */
-static void flow_place(flow *f, double w, double h, double *x, double *y)
-{
-    if (f->x > 0 && f->x + w > REPORT_CONTENT + 0.5) {
-        f->y += f->row_h;
-        f->x = 0;
-        f->row_h = 0;
-    }
-    *x = f->x;
-    *y = f->y;
-    f->x += w;
-    if (h > f->row_h) f->row_h = h;
-}
-
 /* Starts a new row (unless the current one is empty). */
 static void flow_break(flow *f)
 {
@@ -53,6 +38,17 @@ static void flow_break(flow *f)
         f->x = 0;
         f->row_h = 0;
     }
+}
+
+/* Places a box of w × h: on the current row when it fits, else on a new
+ * one. */
+static void flow_place(flow *f, double w, double h, double *x, double *y)
+{
+    if (f->x + w > REPORT_CONTENT + 0.5) flow_break(f);
+    *x = f->x;
+    *y = f->y;
+    f->x += w;
+    if (h > f->row_h) f->row_h = h;
 }
 
 static double flow_end(const flow *f)
@@ -445,7 +441,7 @@ static void plain_line(ng_svg *g, const ng_svg_plot *p, const double *t,
     ng_free(py);
 }
 
-/* Up to 8 curves of one plot, each G values over its run's grid. */
+/* The curves of one plot, each G values over its run's grid. */
 #define MAX_CURVES 10
 
 typedef struct curves {
