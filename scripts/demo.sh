@@ -3,7 +3,9 @@
 # the main job on the bundled demo data (scripts/data/colony.csv: nest
 # positions, in metres, of a shore-bird colony around two ponds) and prints
 # `nervegap show` of the results file, then what a statistics script does
-# next (scripts/read_results.py). README.md walks through the output.
+# next (scripts/read_results.py), and draws the report (`nervegap plot`:
+# build/demo-report.svg, .html and a PNG rendered by rsvg-convert).
+# README.md walks through the output.
 set -euo pipefail
 top=$(cd "$(dirname "$0")/.." && pwd)
 cd "$top"
@@ -31,3 +33,16 @@ echo "== nervegap show $out"
 build/src/cli/nervegap show "$out"
 echo "== scripts/read_results.py $out  (total persistence, landscapes)"
 /usr/bin/python3 scripts/read_results.py "$out"
+echo "== nervegap plot $out  (the report as SVG, HTML and PNG)"
+build/src/cli/nervegap plot "$out" -o build/demo-report.svg
+build/src/cli/nervegap plot "$out" -o build/demo-report.html
+rsvg-convert build/demo-report.svg -o build/demo-report.png
+# 128 colours keep the PNG small enough for the README (docs/demo-report.png)
+/usr/bin/python3 - build/demo-report.png <<'PY'
+import sys
+from PIL import Image
+with Image.open(sys.argv[1]) as im:
+    small = im.convert("RGB").quantize(colors=128, dither=Image.Dither.NONE)
+small.save(sys.argv[1], optimize=True)
+print(f"   build/demo-report.svg, build/demo-report.html, build/demo-report.png ({small.size[0]} x {small.size[1]})")
+PY

@@ -4,8 +4,12 @@
 # test.sh; safe to run again.
 set -euo pipefail
 
+# librsvg2-bin (rsvg-convert) renders the SVG of `nervegap plot` to PNG for
+# the demo picture and the rendering test, fonts-dejavu-core gives it the
+# font the SVG names, python3-pil decodes the PNG in that test.
 ng_packages=(meson ninja-build pkg-config gcc libhdf5-dev check
-             python3-scipy python3-numpy python3-h5py python3-cvxopt)
+             python3-scipy python3-numpy python3-h5py python3-cvxopt
+             librsvg2-bin fonts-dejavu-core python3-pil)
 
 ng_install_missing() {
     local missing=()

@@ -8,6 +8,7 @@
 
 int cmd_distance(int argc, char **argv);
 int cmd_export(int argc, char **argv);
+int cmd_plot(int argc, char **argv);
 int cmd_radii(int argc, char **argv);
 int cmd_run(int argc, char **argv);
 int cmd_show(int argc, char **argv);

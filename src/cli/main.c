@@ -16,6 +16,7 @@ static const struct {
     {"show", cmd_show, "summary of a results file"},
     {"export", cmd_export, "a results file as CSV or JSON"},
     {"distance", cmd_distance, "compare two runs' barcodes"},
+    {"plot", cmd_plot, "pictures of a run or of two (SVG or HTML)"},
     {"values", cmd_values, "Rips and Čech values of given simplices (CSV)"},
 };
 
