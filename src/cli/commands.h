@@ -13,6 +13,10 @@ int cmd_run(int argc, char **argv);
 int cmd_show(int argc, char **argv);
 int cmd_values(int argc, char **argv);
 
+/* The command line as one string, arguments with spaces quoted (for the
+ * results file); caller frees with free(). NULL when out of memory. */
+char *cli_join_command(int argc, char **argv);
+
 /* Prints "nervegap COMMAND: message" to stderr and returns the exit code of
  * err (1 or 2). */
 int cli_fail(const char *command, const ng_error *err);
