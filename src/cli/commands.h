@@ -6,8 +6,10 @@
 
 #include "nervegap/common.h"
 
+int cmd_batch(int argc, char **argv);
 int cmd_distance(int argc, char **argv);
 int cmd_export(int argc, char **argv);
+int cmd_gather(int argc, char **argv);
 int cmd_radii(int argc, char **argv);
 int cmd_run(int argc, char **argv);
 int cmd_show(int argc, char **argv);

@@ -17,6 +17,8 @@ static const struct {
     {"export", cmd_export, "a results file as CSV or JSON"},
     {"distance", cmd_distance, "compare two runs' barcodes"},
     {"values", cmd_values, "Rips and Čech values of given simplices (CSV)"},
+    {"batch", cmd_batch, "run the jobs of a manifest (a shard of them)"},
+    {"gather", cmd_gather, "join a batch's results, subsample confidence"},
 };
 
 static void usage(FILE *out)
