@@ -357,7 +357,7 @@ static int run_one(runner *r, const ng_manifest_job *mj, size_t pos,
     job.command = r->opt->command;
     job.options.threads = r->opt->threads;
     job.options.progress = r->opt->progress;
-    job.options.progress_ctx = r->opt->ctx;
+    job.options.progress_ctx = r->opt->progress_ctx;
     int s = ng_job_execute(&job, file, NULL, &e);
     if (r->opt->temp_file) r->opt->temp_file(NULL, r->opt->ctx);
     double seconds = seconds_since(&t0);

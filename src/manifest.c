@@ -187,9 +187,6 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
         ng_metric metric;
         if (ng_metric_parse(raw, &metric, &e) != NG_OK)
             return fail_from(p, line, column, &e);
-        if (metric == NG_METRIC_GIVEN)
-            return fail_at(p, line, column, "metric given: list distance "
-                           "matrices under the key distances instead");
         snprintf(buf, sizeof buf, "%s", ng_metric_name(metric));
         break;
     }

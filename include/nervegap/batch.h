@@ -42,12 +42,13 @@ typedef struct ng_batch_options {
     int threads;              /* per job; ≤ 0: the OpenMP default */
     const char *command;      /* recorded in every file */
     ng_progress_fn progress;  /* stages of the running job; may be NULL */
+    void *progress_ctx;
     ng_batch_event_fn event;  /* may be NULL */
     /* called with the temporary path of the running job's file when it is
      * created, and with NULL once it is renamed or removed (for signal
      * handlers that remove it); may be NULL */
     void (*temp_file)(const char *path, void *ctx);
-    void *ctx;                /* for progress, event and temp_file */
+    void *ctx;                /* for event and temp_file */
 } ng_batch_options;
 
 typedef struct ng_batch_summary {

@@ -7,6 +7,7 @@
 #include "commands.h"
 #include "args.h"
 #include "nervegap/batch.h"
+#include "progress.h"
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -32,17 +33,11 @@ static const char batch_help[] =
     "                  and run nothing\n"
     "  --quiet         no line per job on stderr\n";
 
-typedef struct batch_ui {
-    int quiet;
-    const char *out_dir;
-} batch_ui;
-
 static void on_event(ng_batch_event e, const ng_manifest_job *job,
                      size_t position, size_t count, double seconds,
                      const char *message, void *ctx)
 {
-    const batch_ui *ui = ctx;
-    if (ui->quiet) return;
+    if (*(const int *)ctx) return; /* --quiet */
     switch (e) {
     case NG_BATCH_STARTED:
         fprintf(stderr, "nervegap batch: [%zu/%zu] %s started%s%s\n",
@@ -129,12 +124,17 @@ int cmd_batch(int argc, char **argv)
         ng_manifest_free(m);
         return 0;
     }
-    batch_ui ui = {quiet, out_dir};
+    /* no stage lines per job (one line per job instead); the progress
+     * still runs for its test hook (progress_init) */
+    progress prog;
+    progress_init(&prog, "batch", 1);
+    opt.progress = progress_report;
+    opt.progress_ctx = &prog;
     char *command = cli_join_command(argc, argv);
     opt.command = command;
     opt.event = on_event;
     opt.temp_file = on_temp_file;
-    opt.ctx = &ui;
+    opt.ctx = &quiet;
     ng_batch_summary sum;
     int status = ng_batch_run(m, out_dir, &opt, &sum, &err);
     free(command);
