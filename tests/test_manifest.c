@@ -253,7 +253,7 @@ START_TEST(subsample_draw)
 {
     enum { N = 10, M = 3, DRAWS = 20000 };
     long count[N] = {0};
-    int64_t rows[M], again[M];
+    int64_t rows[M];
     ng_error err;
     ng_error_clear(&err);
     for (int d = 1; d <= DRAWS; d++) {
@@ -269,11 +269,12 @@ START_TEST(subsample_draw)
     for (int i = 0; i < N; i++)
         ck_assert_msg(fabs((double)count[i] - DRAWS * p) < 6 * sd,
                       "point %d drawn %ld times", i, count[i]);
-    ng_job_subsample_rows(1000, 50, 7, 3, rows, &err);
-    ng_job_subsample_rows(1000, 50, 7, 3, again, &err);
-    ck_assert(memcmp(rows, again, sizeof rows) == 0);
-    ng_job_subsample_rows(1000, 50, 7, 4, again, &err);
-    ck_assert(memcmp(rows, again, sizeof rows) != 0);
+    int64_t first[50], second[50];
+    ng_job_subsample_rows(1000, 50, 7, 3, first, &err);
+    ng_job_subsample_rows(1000, 50, 7, 3, second, &err);
+    ck_assert(memcmp(first, second, sizeof first) == 0);
+    ng_job_subsample_rows(1000, 50, 7, 4, second, &err);
+    ck_assert(memcmp(first, second, sizeof first) != 0);
     ck_assert_int_eq(ng_job_subsample_rows(5, 6, 1, 1, rows, &err),
                      NG_ERR_USAGE);
 }
