@@ -10,6 +10,9 @@ set -euo pipefail
 ng_packages=(meson ninja-build pkg-config gcc libhdf5-dev check
              python3-scipy python3-numpy python3-h5py python3-cvxopt
              librsvg2-bin fonts-dejavu-core python3-pil)
+# For the test of the Slurm job-array script on a single-node cluster
+# (tests/slurm_cluster.py): test.sh installs these too.
+ng_cluster_packages=(slurm-wlm munge)
 
 ng_install_missing() {
     local missing=()

@@ -9,7 +9,7 @@ set -euo pipefail
 top=$(cd "$(dirname "$0")/.." && pwd)
 cd "$top"
 . scripts/deps.sh
-ng_install_missing
+ng_install_missing "${ng_cluster_packages[@]}"
 cores=$(nproc 2>/dev/null || echo 2)
 
 echo "== release build"

@@ -64,6 +64,18 @@ static int is_h5_name(const char *s, size_t len)
     return ends_with(s, len, ".h5") || ends_with(s, len, ".hdf5");
 }
 
+size_t ng_cloud_spec_file_length(const char *spec)
+{
+    for (const char *colon = strchr(spec, ':'); colon;
+         colon = strchr(colon + 1, ':')) {
+        size_t flen = (size_t)(colon - spec);
+        if (!is_h5_name(spec, flen)) continue;
+        if (colon[1] == '\0') break; /* "FILE.h5:" — no dataset path */
+        return flen;
+    }
+    return strlen(spec);
+}
+
 /* Reads spec with the right reader. *file gets the file part of the spec
  * (caller frees with ng_free). */
 static int read_table(const char *spec, int keep_lines, cloud_table *t,
@@ -71,22 +83,18 @@ static int read_table(const char *spec, int keep_lines, cloud_table *t,
 {
     memset(t, 0, sizeof *t);
     *file = NULL;
-    size_t len = strlen(spec);
-    for (const char *colon = strchr(spec, ':'); colon;
-         colon = strchr(colon + 1, ':')) {
-        size_t flen = (size_t)(colon - spec);
-        if (!is_h5_name(spec, flen)) continue;
-        if (colon[1] == '\0') break; /* "FILE.h5:" — no dataset path */
+    size_t len = strlen(spec), flen = ng_cloud_spec_file_length(spec);
+    if (flen < len) {
         *file = ng_malloc(flen + 1, 1);
         if (!*file)
             return ng_error_set(err, NG_ERR_NOMEM, "%s: out of memory", spec);
         memcpy(*file, spec, flen);
         (*file)[flen] = '\0';
-        return cloud_h5_read(*file, colon + 1, t, err);
+        return cloud_h5_read(*file, spec + flen + 1, t, err);
     }
     if (is_h5_name(spec, len) || (len > 0 && spec[len - 1] == ':' &&
                                   is_h5_name(spec, len - 1))) {
-        size_t flen = spec[len - 1] == ':' ? len - 1 : len;
+        flen = spec[len - 1] == ':' ? len - 1 : len;
         return ng_error_set(err, NG_ERR_INPUT,
                             "%.*s: an HDF5 input needs a dataset path: "
                             "append ':/dataset' (for example %.*s:/points)",
@@ -279,6 +287,54 @@ int ng_cloud_take_column(ng_cloud *cloud, size_t j, double **values,
     double *fit = ng_realloc(cloud->coords, n * cloud->dim, sizeof *fit);
     if (fit) cloud->coords = fit; /* else keep the larger block */
     *values = v;
+    return NG_OK;
+}
+
+int ng_cloud_subset(const ng_cloud *cloud, const int64_t *rows, size_t m,
+                    ng_cloud **out, ng_error *err)
+{
+    *out = NULL;
+    size_t n = cloud->n, dim = cloud->dim;
+    if (m < 2)
+        return ng_error_set(err, NG_ERR_USAGE, "%s: a subset of %zu point%s; "
+                            "at least 2 points are needed", cloud->source, m,
+                            m == 1 ? "" : "s");
+    for (size_t i = 0; i < m; i++)
+        if (rows[i] < 0 || (uint64_t)rows[i] >= n)
+            return ng_error_set(err, NG_ERR_USAGE, "%s: row %lld of a subset "
+                                "is not one of the %zu rows", cloud->source,
+                                (long long)rows[i], n);
+    ng_cloud *c = cloud_new(cloud->source);
+    int ok = c != NULL && (c->file = ng_strdup(cloud->file)) != NULL;
+    if (ok && cloud->coords) {
+        c->dim = dim;
+        c->coords = ng_malloc(m * dim, sizeof *c->coords);
+        ok = c->coords != NULL;
+        for (size_t i = 0; ok && i < m; i++)
+            memcpy(c->coords + i * dim, cloud->coords + (size_t)rows[i] * dim,
+                   dim * sizeof *c->coords);
+    }
+    if (ok && cloud->dist) {
+        c->dist = ng_malloc(m * m, sizeof *c->dist);
+        ok = c->dist != NULL;
+        for (size_t i = 0; ok && i < m; i++)
+            for (size_t j = 0; j < m; j++)
+                c->dist[i * m + j] =
+                    cloud->dist[(size_t)rows[i] * n + (size_t)rows[j]];
+    }
+    if (ok && cloud->names) {
+        c->names = ng_calloc(dim, sizeof *c->names);
+        ok = c->names != NULL;
+        for (size_t j = 0; ok && j < dim; j++)
+            ok = (c->names[j] = ng_strdup(cloud->names[j])) != NULL;
+    }
+    if (!ok) {
+        ng_cloud_free(c);
+        return ng_error_set(err, NG_ERR_NOMEM, "%s: out of memory",
+                            cloud->source);
+    }
+    c->n = m;
+    *out = c;
     return NG_OK;
 }
 

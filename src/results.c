@@ -291,6 +291,26 @@ static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
     return r ? -1 : 0;
 }
 
+/* /job: which job of a batch this file answers (job.h, manifest.h). */
+static int write_job(writer *w, hid_t file, const ng_run_record *rec)
+{
+    hid_t g = group_create(file, "job");
+    if (g < 0) return -1;
+    int r = attr_string(g, "id", rec->job_id);
+    r |= attr_string(g, "parameters",
+                     rec->job_parameters ? rec->job_parameters : "");
+    if (rec->subsample_of) {
+        hsize_t n = rec->n_points;
+        r |= attr_string(g, "subsample_of", rec->subsample_of);
+        r |= attr_int(g, "subsample_index", rec->subsample_index);
+        r |= attr_int(g, "subsample_seed", (int64_t)rec->subsample_seed);
+        r |= write_int64s(w, g, "subsample_points", 1, &n,
+                          rec->subsample_points);
+    }
+    H5Gclose(g);
+    return r ? -1 : 0;
+}
+
 static double seconds_since(const struct timespec *t0)
 {
     struct timespec t;
@@ -357,6 +377,7 @@ static int write_all(hid_t file, const ng_run_record *rec,
     for (int j = 0; j < n_diagrams; j++)
         w->total += diagram_elements(&p->diagram[j]);
     if (rec->grid) w->total += grid_elements(rec->grid);
+    if (rec->subsample_of) w->total += (double)rec->n_points;
     if (w->progress) w->progress("writing", 0.0, w->ctx);
 
     hid_t root = H5Gopen2(file, "/", H5P_DEFAULT);
@@ -436,6 +457,7 @@ static int write_all(hid_t file, const ng_run_record *rec,
     }
     if (rec->grid && write_grid(w, file, rec->grid) != 0) return -1;
     if (rec->bottleneck && write_divergence(w, file, rec) != 0) return -1;
+    if (rec->job_id && write_job(w, file, rec) != 0) return -1;
     return write_provenance(file, rec, start);
 }
 

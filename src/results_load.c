@@ -471,6 +471,29 @@ static int read_provenance(loader *L, ng_results *r)
     return status;
 }
 
+/* /job, written for the jobs of a batch. */
+static int read_job(loader *L, ng_results *r)
+{
+    const char *J = "/job";
+    int status = attr_text(L, J, "id", 1, &r->job_id);
+    if (status == NG_OK)
+        status = attr_text(L, J, "parameters", 1, &r->job_parameters);
+    if (status == NG_OK)
+        status = attr_text(L, J, "subsample_of", 0, &r->subsample_of);
+    if (status != NG_OK || r->subsample_of == NULL) return status;
+    int64_t v = 0;
+    status = attr_int(L, J, "subsample_index", 1, &v);
+    if (status != NG_OK) return status;
+    if (v < 1 || v > INT32_MAX) return bad(L, J, "subsample_index is not ≥ 1");
+    r->subsample_index = (int)v;
+    status = attr_int(L, J, "subsample_seed", 1, &r->subsample_seed);
+    hsize_t n[1] = {r->n_points};
+    if (status == NG_OK)
+        status = read_int64s(L, "/job/subsample_points", 1, n, "n",
+                             &r->subsample_points);
+    return status;
+}
+
 static int load_open(loader *L, ng_results *r)
 {
     char *format = NULL;
@@ -585,6 +608,10 @@ static int load_open(loader *L, ng_results *r)
         status = read_divergence(L, r);
         if (status != NG_OK) return status;
     }
+    if (exists(L, "/job")) {
+        status = read_job(L, r);
+        if (status != NG_OK) return status;
+    }
     if (v2) return read_provenance(L, r);
     return NG_OK;
 }
@@ -648,11 +675,13 @@ void ng_results_free(ng_results *r)
                         &r->source,       &r->input_file,   &r->input_sha256,
                         &r->metric,       &r->radius_rule,  &r->law,
                         &r->slice_kind,   &r->hdf5_version, &r->created,
-                        &r->host};
+                        &r->host,         &r->job_id,       &r->job_parameters,
+                        &r->subsample_of};
     for (size_t i = 0; i < sizeof strings / sizeof strings[0]; i++)
         ng_free(*strings[i]);
     ng_free(r->radius);
     ng_free(r->birth);
+    ng_free(r->subsample_points);
     diagram_release(&r->cech);
     diagram_release(&r->rips);
     if (r->slices)

@@ -39,6 +39,53 @@ void ng_run_options_init(ng_run_options *opt)
 #endif
 }
 
+int ng_run_parse_max_degree(const char *text, ng_run_options *opt,
+                            ng_error *err)
+{
+    char *end;
+    long d = strtol(text, &end, 10);
+    if (*text == '\0' || *end != '\0' || d < 0 || d > 4)
+        return ng_error_set(err, NG_ERR_USAGE,
+                            "--max-degree %s: expected 0, 1, 2, 3 or 4",
+                            text);
+    opt->max_degree = (int)d;
+    return NG_OK;
+}
+
+int ng_run_parse_scale_limit(const char *text, ng_run_options *opt,
+                             ng_error *err)
+{
+    if (strcmp(text, "auto") == 0) {
+        opt->scale_auto = 1;
+        return NG_OK;
+    }
+    char *end;
+    errno = 0;
+    double t = strtod(text, &end);
+    if (*text == '\0' || *end != '\0' || errno != 0 || !isfinite(t) ||
+        t < 0.0)
+        return ng_error_set(err, NG_ERR_USAGE,
+                            "--scale-limit %s: expected a scale ≥ 0 or auto",
+                            text);
+    opt->scale_auto = 0;
+    opt->scale_limit = t;
+    return NG_OK;
+}
+
+int ng_run_parse_grid(const char *text, ng_run_options *opt, ng_error *err)
+{
+    char *end;
+    errno = 0;
+    unsigned long long g = strtoull(text, &end, 10);
+    if (text[0] < '0' || text[0] > '9' || *end != '\0' || errno != 0 ||
+        g < 2 || g > (1u << 24))
+        return ng_error_set(err, NG_ERR_USAGE,
+                            "--grid %s: expected a number of scales from 2 "
+                            "to 16777216", text);
+    opt->grid = (size_t)g;
+    return NG_OK;
+}
+
 int ng_run_parse_slices(const char *text, ng_run_options *opt, ng_error *err)
 {
     const char *p;

@@ -57,6 +57,18 @@ NG_API int ng_cloud_read_distances(const char *spec, ng_cloud **out,
 NG_API int ng_cloud_take_column(ng_cloud *cloud, size_t j, double **values,
                                 ng_error *err);
 
+/* A new cloud of the m points rows[0..m-1] of cloud (0-based rows, in that
+ * order; for a distance matrix the rows and columns), with the same
+ * source, file and column names. On success *out owns it (ng_cloud_free).
+ * NG_ERR_USAGE when m < 2 or a row is out of range, NG_ERR_NOMEM; *out is
+ * NULL on failure. */
+NG_API int ng_cloud_subset(const ng_cloud *cloud, const int64_t *rows,
+                           size_t m, ng_cloud **out, ng_error *err);
+
+/* Length of the file part of an input spec: up to the colon of
+ * "FILE.h5:/dataset" (or .hdf5), else the whole spec. */
+NG_API size_t ng_cloud_spec_file_length(const char *spec);
+
 /* Frees an array returned by ng_cloud_take_column. Accepts NULL. */
 NG_API void ng_cloud_values_free(double *values);
 

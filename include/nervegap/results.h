@@ -23,6 +23,9 @@
  *   /divergence/bottleneck, wasserstein1, wasserstein2  float64[D+1];
  *                     attrs factor_bound, shift_bound, factor_bound_at,
  *                     shift_bound_at, wasserstein_relative_error
+ *   /job              (jobs of nervegap batch only) attrs id, parameters;
+ *                     subsample jobs also subsample_of, subsample_index,
+ *                     subsample_seed and subsample_points int64[n]
  *   /provenance       attrs hdf5_version, threads, peak_memory_bytes,
  *                     wall_seconds, created, host
  *   /provenance/stage_seconds  one float64 attr per stage, in stage order
@@ -81,6 +84,14 @@ typedef struct ng_run_record {
      * a last stage "writing" (its own time up to closing the file) */
     int threads;               /* threads used; 0: not recorded */
     int64_t peak_memory_bytes; /* peak resident memory; < 0: unknown */
+    /* the job of a batch (job.h); job_id NULL: no /job group */
+    const char *job_id;
+    const char *job_parameters;   /* canonical parameter text */
+    const char *subsample_of;     /* id of the job on all points; NULL:
+                                     not a subsample */
+    int subsample_index;          /* 1..B */
+    uint64_t subsample_seed;
+    const int64_t *subsample_points; /* n_points input rows, increasing */
     int n_stages;              /* stages before writing */
     const char *const *stage_names;
     const double *stage_seconds; /* wall time of each stage */
@@ -163,6 +174,14 @@ typedef struct ng_results {
     double factor_bound, shift_bound;        /* Λ, Δ */
     double factor_bound_at, shift_bound_at;  /* Rips values attaining them */
     double wasserstein_relative_error;
+    /* /job (files of nervegap batch; absent: job_id NULL, subsample_of
+     * NULL, subsample_index 0, subsample_points NULL) */
+    char *job_id;
+    char *job_parameters;
+    char *subsample_of;
+    int subsample_index;
+    int64_t subsample_seed;
+    int64_t *subsample_points; /* n_points input rows */
     /* /provenance */
     char *hdf5_version;
     char *created;             /* UTC, ISO 8601 */

@@ -60,6 +60,16 @@ typedef struct ng_run_options {
  * grid of 128 scales. */
 NG_API void ng_run_options_init(ng_run_options *opt);
 
+/* Parse the text of --max-degree (0..4), --scale-limit (T ≥ 0 or auto)
+ * and --grid (2..2^24 scales) into opt. NG_ERR_USAGE naming the flag on
+ * error. */
+NG_API int ng_run_parse_max_degree(const char *text, ng_run_options *opt,
+                                   ng_error *err);
+NG_API int ng_run_parse_scale_limit(const char *text, ng_run_options *opt,
+                                    ng_error *err);
+NG_API int ng_run_parse_grid(const char *text, ng_run_options *opt,
+                             ng_error *err);
+
 /* Parses "factor:1.02,1.05" or "shift:0.1,0.2" into opt (the text of
  * --slices). NG_ERR_USAGE naming --slices on error. */
 NG_API int ng_run_parse_slices(const char *text, ng_run_options *opt,

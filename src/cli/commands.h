@@ -6,13 +6,19 @@
 
 #include "nervegap/common.h"
 
+int cmd_batch(int argc, char **argv);
 int cmd_distance(int argc, char **argv);
 int cmd_export(int argc, char **argv);
+int cmd_gather(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_radii(int argc, char **argv);
 int cmd_run(int argc, char **argv);
 int cmd_show(int argc, char **argv);
 int cmd_values(int argc, char **argv);
+
+/* The command line as one string, arguments with spaces quoted (for the
+ * results file); caller frees with free(). NULL when out of memory. */
+char *cli_join_command(int argc, char **argv);
 
 /* Prints "nervegap COMMAND: message" to stderr and returns the exit code of
  * err (1 or 2). */

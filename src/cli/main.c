@@ -18,6 +18,8 @@ static const struct {
     {"distance", cmd_distance, "compare two runs' barcodes"},
     {"plot", cmd_plot, "pictures of a run or of two (SVG or HTML)"},
     {"values", cmd_values, "Rips and Čech values of given simplices (CSV)"},
+    {"batch", cmd_batch, "run the jobs of a manifest (a shard of them)"},
+    {"gather", cmd_gather, "join a batch's results, subsample confidence"},
 };
 
 static void usage(FILE *out)

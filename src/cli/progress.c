@@ -45,12 +45,6 @@ void progress_break(progress *p)
 static void finish(progress *p, const struct timespec *now)
 {
     double s = seconds_between(&p->stage_start, now);
-    if (p->n_stages < PROGRESS_MAX_STAGES) {
-        int i = p->n_stages++;
-        memcpy(p->names[i], p->stage, sizeof p->names[i]);
-        p->name_list[i] = p->names[i];
-        p->seconds[i] = s;
-    }
     p->open = 0;
     p->stage_start = *now;
     if (p->quiet) return;

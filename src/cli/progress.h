@@ -1,4 +1,4 @@
-/* progress.h — progress of a long command on stderr, and the wall time of
+/* progress.h — progress of a long command on stderr, with the wall time of
  * each stage.
  *
  * Stages follow one another: a stage starts where the previous one ended
@@ -6,7 +6,7 @@
  * wall time. On a terminal the current stage is one line redrawn in place
  * with its percentage and an estimate of the time left; otherwise (a batch
  * log) one plain line is printed when each stage ends. --quiet prints
- * nothing but still records the times.
+ * nothing. (The library records the stage times in the results file.)
  */
 #ifndef NERVEGAP_CLI_PROGRESS_H
 #define NERVEGAP_CLI_PROGRESS_H
@@ -14,7 +14,6 @@
 #include <stdio.h>
 #include <time.h>
 
-#define PROGRESS_MAX_STAGES 16
 #define PROGRESS_NAME_MAX 32
 
 typedef struct progress {
@@ -27,10 +26,6 @@ typedef struct progress {
     char stage[PROGRESS_NAME_MAX]; /* the current or last stage */
     int open;                   /* the stage has not ended */
     int drawn;                  /* a partial line is on the terminal */
-    int n_stages;               /* ended stages recorded */
-    char names[PROGRESS_MAX_STAGES][PROGRESS_NAME_MAX];
-    const char *name_list[PROGRESS_MAX_STAGES]; /* points into names */
-    double seconds[PROGRESS_MAX_STAGES];
 } progress;
 
 /* Starts the clock; tty from isatty(stderr). */

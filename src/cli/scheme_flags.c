@@ -21,11 +21,10 @@ const char scheme_flags_help[] =
     "  --merge-duplicates      merge coincident points (keep the first)\n"
     "  --threads N             worker threads (default: OpenMP's choice)\n";
 
-int scheme_flags_load(const scheme_flags *f, const char *command,
-                      const char *input, ng_scheme *scheme, int *threads,
-                      ng_cloud **cloud, ng_error *err)
+int scheme_flags_parse(const scheme_flags *f, const char *command,
+                       const char *input, ng_scheme *scheme, int *threads,
+                       ng_error *err)
 {
-    *cloud = NULL;
     *threads = 0;
     ng_scheme_init(scheme);
     if (f->metric && ng_metric_parse(f->metric, &scheme->metric, err))
@@ -52,7 +51,17 @@ int scheme_flags_load(const scheme_flags *f, const char *command,
                                 "--metric cannot be combined with --distances "
                                 "(the matrix is the metric)");
         scheme->metric = NG_METRIC_GIVEN;
-        return ng_cloud_read_distances(f->distances, cloud, err);
     }
+    return NG_OK;
+}
+
+int scheme_flags_load(const scheme_flags *f, const char *command,
+                      const char *input, ng_scheme *scheme, int *threads,
+                      ng_cloud **cloud, ng_error *err)
+{
+    *cloud = NULL;
+    int status = scheme_flags_parse(f, command, input, scheme, threads, err);
+    if (status != NG_OK) return status;
+    if (f->distances) return ng_cloud_read_distances(f->distances, cloud, err);
     return ng_cloud_read(input, cloud, err);
 }

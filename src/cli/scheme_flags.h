@@ -27,7 +27,13 @@ typedef struct scheme_flags {
 /* The help text of the scheme flags. */
 extern const char scheme_flags_help[];
 
-/* Parses the flags into *scheme and *threads (0 = OpenMP default), then
+/* Parses the flags into *scheme and *threads (0 = OpenMP default) and
+ * checks that exactly one of input and --distances is given. */
+int scheme_flags_parse(const scheme_flags *f, const char *command,
+                       const char *input, ng_scheme *scheme, int *threads,
+                       ng_error *err);
+
+/* As scheme_flags_parse, then
  * reads the cloud from input (or from --distances; exactly one of the two)
  * into *cloud (caller frees with ng_cloud_free). */
 int scheme_flags_load(const scheme_flags *f, const char *command,
