@@ -10,12 +10,16 @@
  * How the search works. Whether the complex at t fits is monotone in t (the
  * graph, hence every clique set, only grows). From a start scale (the
  * median Rips value of the edge to each point's nearest neighbour) the
- * search doubles or halves until it brackets the budget, then bisects the
- * bracket [fits, does not fit] 14 times (a relative width of 6e-5). A probe
- * builds the graph at t and counts its cliques, stopping past the budget
- * (ng_complex_estimate's max_total). The smallest complete graph that did
- * not fit is kept: every later probe lies below its scale, so its graph is
- * that one filtered by edge value — no k-d tree search and no sort.
+ * search doubles or halves until it brackets the budget, then narrows the
+ * bracket [fits, does not fit] to a relative width of 1e-4: each probe is
+ * where the count would reach the budget if it were a power of the scale
+ * between the two ends (the count of a complex grows about like a power of
+ * the scale), or the midpoint when that cannot be computed or keeps moving
+ * one end — a safeguarded secant, a few probes where bisection needs 14. A
+ * probe builds the graph at t and counts its cliques, stopping at twice the
+ * budget (ng_complex_estimate's max_total). The smallest complete graph
+ * that did not fit is kept: every later probe lies below its scale, so its
+ * graph is that one filtered by edge value — no k-d tree search, no sort.
  */
 #include "scale_limit.h"
 
@@ -28,7 +32,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define BISECTION_STEPS 14 /* bracket [t, 2t] → relative width 6e-5 */
+#define REFINE_TOLERANCE 1e-4 /* relative width of the final bracket */
+#define REFINE_STEPS 40        /* bisection alone needs 14 from [t, 2t] */
 
 typedef struct search {
     const ng_space *space;
@@ -195,8 +200,12 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
         p.bytes = p.over_count ? 0 : SIZE_MAX;
         return p;
     }
-    p.status = ng_complex_estimate(&g, opt->max_degree + 1, se->L,
-                                   se->count_cap, opt->threads, &p.size, err);
+    /* counting on to twice the budget gives the refinement an exact count
+     * just above it, at most twice the cost */
+    size_t count_to = se->count_cap <= SIZE_MAX / 2 ? 2 * se->count_cap
+                                                     : se->count_cap;
+    p.status = ng_complex_estimate(&g, opt->max_degree + 1, se->L, count_to,
+                                   opt->threads, &p.size, err);
     if (p.status != NG_OK) {
         ng_csr_free(&g);
         return p;
@@ -209,7 +218,8 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
         p.bytes += reductions * p.size.bytes_reduce;
     p.over_count = opt->max_simplices > 0 &&
                    (p.size.over || p.size.total > opt->max_simplices);
-    p.fits = !p.size.over && !p.over_count && p.bytes <= opt->budget_bytes;
+    p.fits = !p.size.over && p.size.total <= se->count_cap &&
+             !p.over_count && p.bytes <= opt->budget_bytes;
     if (p.fits && keep) {
         *keep = g;
     } else if (!p.fits &&
@@ -316,9 +326,22 @@ cleanup:
     return status;
 }
 
+/* One end of the bracket: its scale and, when known exactly, the number of
+ * simplices there (0: not known). */
+typedef struct end {
+    double t;
+    size_t count;
+} end;
+
+static end end_of(double t, const probe *p)
+{
+    end e = {t, p->size.over ? 0 : p->size.total};
+    return e;
+}
+
 /* Finds a bracket [lo fits, hi does not] by doubling or halving from the
  * start scale, never above cap (known not to fit, or +inf). */
-static int bracket_fit(search *se, double cap, double *lo, double *hi,
+static int bracket_fit(search *se, double cap, end *lo, end *hi,
                        ng_error *err)
 {
     double t = 0.0;
@@ -330,62 +353,89 @@ static int bracket_fit(search *se, double cap, double *lo, double *hi,
     if (p.status != NG_OK) return p.status;
     int rounds = 0;
     if (p.fits) {
-        *lo = t;
+        *lo = end_of(t, &p);
         for (;;) {
             double next = 2.0 * t;
             if (next >= cap || rounds++ > 200) {
-                *hi = cap;
+                *hi = (end){cap, 0};
                 return NG_OK;
             }
             p = probe_at(se, next, NULL, err);
             if (p.status != NG_OK) return p.status;
             if (!p.fits) {
-                *hi = next;
+                *hi = end_of(next, &p);
                 return NG_OK;
             }
-            *lo = t = next;
+            *lo = end_of(next, &p);
+            t = next;
         }
     }
-    *hi = t;
+    *hi = end_of(t, &p);
     for (;;) {
         double next = 0.5 * t;
         if (rounds++ > 200 || next == 0.0) {
-            *lo = 0.0;
+            *lo = (end){0.0, 0};
             return NG_OK;
         }
         p = probe_at(se, next, NULL, err);
         if (p.status != NG_OK) return p.status;
         if (p.fits) {
-            *lo = next;
+            *lo = end_of(next, &p);
             return NG_OK;
         }
-        *hi = t = next;
+        *hi = end_of(next, &p);
+        t = next;
     }
 }
 
-/* The largest scale in [lo, hi] (lo fits, hi does not) that fits. */
-static int bisect_fit(search *se, double lo, double hi, double *out,
-                      ng_error *err)
+/* The next scale to probe in (lo, hi): where the simplex count, taken as a
+ * power of the scale between the two ends (a line in log–log), reaches the
+ * budget; the midpoint when a count is unknown, or when the last two probes
+ * moved the same end (interpolation alone can creep up on one side). */
+static double next_probe(const search *se, end lo, end hi, int same_side)
 {
-    for (int step = 0; step < BISECTION_STEPS && hi - lo > 1e-12 * hi;
+    double mid = 0.5 * (lo.t + hi.t), w = hi.t - lo.t;
+    if (same_side >= 2 || lo.count == 0 || hi.count <= lo.count ||
+        !(lo.t > 0.0) || !isfinite(hi.t))
+        return mid;
+    double f = log((double)se->count_cap / (double)lo.count) /
+               log((double)hi.count / (double)lo.count);
+    double t = lo.t * exp(f * log(hi.t / lo.t));
+    /* stay inside, away from the ends */
+    if (!(t > lo.t + 1e-3 * w)) t = lo.t + 1e-3 * w;
+    if (!(t < hi.t - 1e-3 * w)) t = hi.t - 1e-3 * w;
+    return t;
+}
+
+/* The largest scale in [lo, hi] (lo fits, hi does not) that fits, to a
+ * relative REFINE_TOLERANCE: on return, lo·(1 + REFINE_TOLERANCE) does not
+ * fit. */
+static int refine_fit(search *se, end lo, end hi, double *out, ng_error *err)
+{
+    int same_side = 0, last = 0;
+    for (int step = 0;
+         step < REFINE_STEPS && hi.t - lo.t > REFINE_TOLERANCE * lo.t;
          step++) {
-        double mid = 0.5 * (lo + hi);
-        probe p = probe_at(se, mid, NULL, err);
+        double t = next_probe(se, lo, hi, same_side);
+        probe p = probe_at(se, t, NULL, err);
         if (p.status != NG_OK) return p.status;
-        if (p.fits) lo = mid;
-        else hi = mid;
-        report(se->opt, 0.5 + 0.49 * (step + 1) / BISECTION_STEPS);
+        int side = p.fits ? -1 : 1;
+        same_side = side == last ? same_side + 1 : 1;
+        last = side;
+        if (p.fits) lo = end_of(t, &p);
+        else hi = end_of(t, &p);
+        report(se->opt, 0.5 + 0.49 * (step + 1) / REFINE_STEPS);
     }
-    *out = lo;
+    *out = lo.t;
     return NG_OK;
 }
 
 /* The largest scale below cap that fits. */
 static int largest_fit(search *se, double cap, double *fit, ng_error *err)
 {
-    double lo, hi;
+    end lo, hi;
     int status = bracket_fit(se, cap, &lo, &hi, err);
-    if (status == NG_OK) status = bisect_fit(se, lo, hi, fit, err);
+    if (status == NG_OK) status = refine_fit(se, lo, hi, fit, err);
     return status;
 }
 
