@@ -5,9 +5,10 @@
  * numbering, root 1, children 2k and 2k+1) owns the positions [lo, hi) and
  * splits them at mid = lo + (hi − lo)/2 by the median of x (even depth) or
  * y (odd depth); a node with at most LEAF positions is a leaf. Each node
- * stores the bounding box of its points and the least weight among them.
- * Invariant: minw[k] = min of w over the positions of node k, after every
- * ng_distance_tree_set / _set_all.
+ * stores the bounding box of its points, the least weight among them and
+ * the least weight among its preferred points (+inf when it has none).
+ * Invariant: minw[k] = min of w and minp[k] = min of w over the preferred
+ * positions of node k, after every ng_distance_tree_set / _mark / _set_all.
  * Pruning is conservative under rounding: the distance from q to a box is
  * computed with the same subtractions as the point distances, and
  * floating-point subtraction is monotone, so a box is never pruned when one
@@ -99,18 +100,34 @@ static void build(distance_tree *t, size_t *idx, const double *pts, size_t k,
     }
 }
 
+/* minw and minp of the leaf k over the positions [lo, hi). */
+static void leaf_minima(distance_tree *t, size_t k, size_t lo, size_t hi)
+{
+    double m = INFINITY, mp = INFINITY;
+    for (size_t i = lo; i < hi; i++) {
+        m = fmin(m, t->w[i]);
+        if (t->pref[i]) mp = fmin(mp, t->w[i]);
+    }
+    t->minw[k] = m;
+    t->minp[k] = mp;
+}
+
+static void join_minima(distance_tree *t, size_t k)
+{
+    t->minw[k] = fmin(t->minw[2 * k], t->minw[2 * k + 1]);
+    t->minp[k] = fmin(t->minp[2 * k], t->minp[2 * k + 1]);
+}
+
 static void refresh(distance_tree *t, size_t k, size_t lo, size_t hi)
 {
     if (hi - lo > LEAF) {
         size_t mid = lo + (hi - lo) / 2;
         refresh(t, 2 * k, lo, mid);
         refresh(t, 2 * k + 1, mid, hi);
-        t->minw[k] = fmin(t->minw[2 * k], t->minw[2 * k + 1]);
+        join_minima(t, k);
         return;
     }
-    double m = INFINITY;
-    for (size_t i = lo; i < hi; i++) m = fmin(m, t->w[i]);
-    t->minw[k] = m;
+    leaf_minima(t, k, lo, hi);
 }
 
 int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
@@ -122,12 +139,15 @@ int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
     t->x = ng_malloc(n, sizeof *t->x);
     t->y = ng_malloc(n, sizeof *t->y);
     t->w = ng_calloc(n, sizeof *t->w);
+    t->pref = ng_calloc(n, 1);
     t->id = ng_malloc(n, sizeof *t->id);
     t->pos = ng_malloc(n, sizeof *t->pos);
     t->box = ng_malloc(t->nodes, 4 * sizeof *t->box);
     t->minw = ng_calloc(t->nodes, sizeof *t->minw);
-    if (t->x == NULL || t->y == NULL || t->w == NULL || t->id == NULL ||
-        t->pos == NULL || t->box == NULL || t->minw == NULL) {
+    t->minp = ng_calloc(t->nodes, sizeof *t->minp);
+    if (t->x == NULL || t->y == NULL || t->w == NULL || t->pref == NULL ||
+        t->id == NULL || t->pos == NULL || t->box == NULL ||
+        t->minw == NULL || t->minp == NULL) {
         ng_distance_tree_free(t);
         return ng_error_set(err, NG_ERR_NOMEM,
                             "out of memory for a k-d tree of %zu diagram "
@@ -151,17 +171,25 @@ void ng_distance_tree_free(distance_tree *t)
     ng_free(t->x);
     ng_free(t->y);
     ng_free(t->w);
+    ng_free(t->pref);
     ng_free(t->id);
     ng_free(t->pos);
     ng_free(t->box);
     ng_free(t->minw);
+    ng_free(t->minp);
     *t = (distance_tree){0};
 }
 
 void ng_distance_tree_set(distance_tree *t, size_t i, double w)
 {
+    ng_distance_tree_mark(t, i, w, t->pref[t->pos[i]]);
+}
+
+void ng_distance_tree_mark(distance_tree *t, size_t i, double w, int preferred)
+{
     size_t p = t->pos[i];
     t->w[p] = w;
+    t->pref[p] = preferred != 0;
     size_t path[128];
     size_t depth = 0, k = 1, lo = 0, hi = t->n;
     while (hi - lo > LEAF) {
@@ -175,13 +203,8 @@ void ng_distance_tree_set(distance_tree *t, size_t i, double w)
             lo = mid;
         }
     }
-    double m = INFINITY;
-    for (size_t j = lo; j < hi; j++) m = fmin(m, t->w[j]);
-    t->minw[k] = m;
-    while (depth > 0) {
-        k = path[--depth];
-        t->minw[k] = fmin(t->minw[2 * k], t->minw[2 * k + 1]);
-    }
+    leaf_minima(t, k, lo, hi);
+    while (depth > 0) join_minima(t, path[--depth]);
 }
 
 double ng_distance_tree_get(const distance_tree *t, size_t i)
@@ -233,24 +256,29 @@ size_t ng_distance_tree_find(const distance_tree *t, double qx, double qy,
 
 typedef struct best2 {
     size_t best;
+    int preferred; /* best is a preferred point */
     double v1, v2;
 } best2;
 
 static void best2_walk(const distance_tree *t, size_t k, size_t lo,
                        size_t hi, double qx, double qy, double p, best2 *s)
 {
-    double bound =
-        distance_pow(box_dist(t->box + 4 * k, qx, qy), p) + t->minw[k];
-    if (bound >= s->v2) return;
+    double reach = distance_pow(box_dist(t->box + 4 * k, qx, qy), p);
+    double tie = reach + t->minp[k];
+    /* nothing below can lower v2, nor tie v1 with a preferred point */
+    if (reach + t->minw[k] >= s->v2 &&
+        (s->preferred || !(tie <= s->v1 && tie < INFINITY)))
+        return;
     if (hi - lo <= LEAF) {
         for (size_t i = lo; i < hi; i++) {
             double v = distance_pow(distance_linf(qx, qy, t->x[i], t->y[i]),
                                     p) +
                        t->w[i];
-            if (v < s->v1) {
+            if (v < s->v1 || (v == s->v1 && t->pref[i] && !s->preferred)) {
                 s->v2 = s->v1;
                 s->v1 = v;
                 s->best = t->id[i];
+                s->preferred = t->pref[i];
             } else if (v < s->v2) {
                 s->v2 = v;
             }
@@ -278,7 +306,7 @@ static void best2_walk(const distance_tree *t, size_t k, size_t lo,
 size_t ng_distance_tree_best2(const distance_tree *t, double qx, double qy,
                               double p, double *v1, double *v2)
 {
-    best2 s = {DISTANCE_NONE, INFINITY, INFINITY};
+    best2 s = {DISTANCE_NONE, 0, INFINITY, INFINITY};
     if (t->n > 0) best2_walk(t, 1, 0, t->n, qx, qy, p, &s);
     *v1 = s.v1;
     *v2 = s.v2;
