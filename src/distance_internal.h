@@ -34,6 +34,11 @@ static inline double distance_pow(double c, double p)
     return pow(c, p);
 }
 
+/* min and max for values that are never NaN (fmin and fmax are library
+ * calls without -ffinite-math-only, and these sit in the inner loops). */
+static inline double distance_min(double x, double y) { return y < x ? y : x; }
+static inline double distance_max(double x, double y) { return y > x ? y : x; }
+
 /* κ such that distance_pow of a cost computed with one rounding (every
  * distance_linf and distance_diag: one subtraction) is within κ·2^-53
  * relative of the exact c^p, to first order: 1 for p = 1; 3 for p = 2
@@ -48,6 +53,12 @@ static inline double distance_pow_kappa(double p)
  * "preferred" flag that can be changed at any time (O(log n)); each node
  * knows the bounding box, the least weight of its points and the least
  * weight of its preferred points, which the two queries use for pruning. */
+typedef struct distance_node {
+    double xlo, xhi, ylo, yhi; /* bounding box of its points */
+    double minw;               /* least weight of its points */
+    double minp;               /* least weight of its preferred points */
+} distance_node;
+
 typedef struct distance_tree {
     size_t n;
     double *x, *y;   /* coordinates in tree order */
@@ -56,9 +67,7 @@ typedef struct distance_tree {
     size_t *id;      /* tree position -> caller's index */
     size_t *pos;     /* caller's index -> tree position */
     size_t nodes;    /* node slots (heap numbering, root 1) */
-    double *box;     /* 4 per node: xlo, xhi, ylo, yhi */
-    double *minw;    /* least weight below each node */
-    double *minp;    /* least weight of a preferred point below each node */
+    struct distance_node *node; /* per node (heap numbering, root 1) */
 } distance_tree;
 
 #define DISTANCE_NONE ((size_t)-1)
@@ -88,6 +97,11 @@ size_t ng_distance_tree_find(const distance_tree *t, double qx, double qy,
  * (+inf when n < 2). DISTANCE_NONE when n = 0. */
 size_t ng_distance_tree_best2(const distance_tree *t, double qx, double qy,
                               double p, double *v1, double *v2);
+/* As ng_distance_tree_best2, and the caller index of a point of value *v2
+ * in *second (DISTANCE_NONE when n < 2). */
+size_t ng_distance_tree_best_two(const distance_tree *t, double qx,
+                                 double qy, double p, double *v1,
+                                 size_t *second, double *v2);
 
 /* ---- solvers on finite diagrams ---- */
 
