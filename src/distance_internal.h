@@ -42,7 +42,9 @@ static inline double distance_max(double x, double y) { return y > x ? y : x; }
 /* κ such that distance_pow of a cost computed with one rounding (every
  * distance_linf and distance_diag: one subtraction) is within κ·2^-53
  * relative of the exact c^p, to first order: 1 for p = 1; 3 for p = 2
- * (the square rounds once more); p + 3 otherwise (pow within one ulp). */
+ * (the square rounds once more); p + 3 otherwise (glibc's pow is within
+ * one ulp — from memory of its documentation — and the rounding of c is
+ * raised to the power p). */
 static inline double distance_pow_kappa(double p)
 {
     return p == 1.0 ? 1.0 : p == 2.0 ? 3.0 : p + 3.0;
@@ -61,20 +63,20 @@ typedef struct distance_node {
 
 typedef struct distance_tree {
     size_t n;
-    double *x, *y;   /* coordinates in tree order */
-    double *w;       /* weights in tree order */
+    double *x, *y;       /* coordinates in tree order */
+    double *w;           /* weights in tree order */
     unsigned char *pref; /* preferred flags in tree order */
-    size_t *id;      /* tree position -> caller's index */
-    size_t *pos;     /* caller's index -> tree position */
-    size_t nodes;    /* node slots (heap numbering, root 1) */
-    struct distance_node *node; /* per node (heap numbering, root 1) */
+    size_t *id;          /* tree position -> caller's index */
+    size_t *pos;         /* caller's index -> tree position */
+    size_t nodes;        /* node slots (heap numbering, root 1) */
+    distance_node *node; /* per node slot */
 } distance_tree;
 
 #define DISTANCE_NONE ((size_t)-1)
 
-/* Builds the tree over pts (n × 2); all weights 0, no point preferred. NG_OK or NG_ERR_NOMEM
- * (message written). Free with ng_distance_tree_free (accepts a zeroed
- * tree). */
+/* Builds the tree over pts (n × 2); all weights 0, no point preferred.
+ * NG_OK or NG_ERR_NOMEM (message written). Free with ng_distance_tree_free
+ * (accepts a zeroed tree). */
 int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
                            ng_error *err);
 void ng_distance_tree_free(distance_tree *t);

@@ -116,8 +116,9 @@ static void leaf_minima(distance_tree *t, size_t k, size_t lo, size_t hi)
 
 static void join_minima(distance_tree *t, size_t k)
 {
-    t->node[k].minw = distance_min(t->node[2 * k].minw, t->node[2 * k + 1].minw);
-    t->node[k].minp = distance_min(t->node[2 * k].minp, t->node[2 * k + 1].minp);
+    const distance_node *l = &t->node[2 * k], *r = l + 1;
+    t->node[k].minw = distance_min(l->minw, r->minw);
+    t->node[k].minp = distance_min(l->minp, r->minp);
 }
 
 static void refresh(distance_tree *t, size_t k, size_t lo, size_t hi)
