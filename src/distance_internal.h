@@ -139,7 +139,7 @@ double ng_distance_relative_bound(double p, double sum, double sum_err,
                                   double extra_err);
 
 /* Augmented size na + nb up to which ng_wasserstein_distance uses the
- * exact method. The setter (tests and measurements only; not thread-safe)
+ * Hungarian method (above it, ng_distance_wasserstein_paths). The setter (tests and measurements only; not thread-safe)
  * returns the previous limit; DISTANCE_NONE restores the default. */
 size_t ng_distance_exact_limit(void);
 size_t ng_distance_set_exact_limit(size_t limit);

@@ -112,8 +112,8 @@ int ng_distance_wasserstein_exact(const double *a, size_t na, const double *b,
     if (cost == NULL || pu == NULL || pv == NULL || minv == NULL ||
         row_of == NULL || way == NULL || used == NULL) {
         status = ng_error_set(err, NG_ERR_NOMEM,
-                              "out of memory for the exact Wasserstein "
-                              "distance of %zu + %zu points",
+                              "out of memory for the Hungarian method on "
+                              "%zu + %zu points",
                               na, nb);
         goto cleanup;
     }
