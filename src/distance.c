@@ -14,6 +14,7 @@
 #include "alloc.h"
 #include "distance_internal.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdlib.h>
 
@@ -150,13 +151,19 @@ int ng_wasserstein_distance(const double *a, size_t na, const double *b,
         double extra = 0.0, sum = 0.0;
         for (size_t i = 0; i < sa.nessential; i++)
             extra += distance_pow(fabs(sa.essential[i] - sb.essential[i]), p);
+        /* each term within κu, the running sum within (m − 1)u Σ */
+        double extra_err = (distance_pow_kappa(p) + (double)sa.nessential) *
+                           (DBL_EPSILON / 2) * extra;
         if (sa.nfinite + sb.nfinite <= ng_distance_exact_limit()) {
             status = ng_distance_wasserstein_exact(
                 sa.finite, sa.nfinite, sb.finite, sb.nfinite, p, &sum, err);
         } else {
-            status = ng_distance_wasserstein_auction(
-                sa.finite, sa.nfinite, sb.finite, sb.nfinite, p, rel_error,
-                extra, &sum, &bound, err);
+            double sum_err, lower;
+            status = ng_distance_wasserstein_paths(
+                sa.finite, sa.nfinite, sb.finite, sb.nfinite, p, &sum,
+                &sum_err, &lower, err);
+            bound = ng_distance_relative_bound(p, sum, sum_err, lower, extra,
+                                               extra_err);
         }
         result = p == 1.0 ? sum + extra : pow(sum + extra, 1.0 / p);
     }

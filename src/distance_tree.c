@@ -5,9 +5,11 @@
  * numbering, root 1, children 2k and 2k+1) owns the positions [lo, hi) and
  * splits them at mid = lo + (hi − lo)/2 by the median of x (even depth) or
  * y (odd depth); a node with at most LEAF positions is a leaf. Each node
- * stores the bounding box of its points and the least weight among them.
- * Invariant: minw[k] = min of w over the positions of node k, after every
- * ng_distance_tree_set / _set_all.
+ * stores the bounding box of its points, the least weight among them and
+ * the least weight among its preferred points (+inf when it has none).
+ * Invariant: node[k].minw = min of w and node[k].minp = min of w over the
+ * preferred positions of node k, after every ng_distance_tree_set / _mark /
+ * _set_all.
  * Pruning is conservative under rounding: the distance from q to a box is
  * computed with the same subtractions as the point distances, and
  * floating-point subtraction is monotone, so a box is never pruned when one
@@ -80,23 +82,43 @@ static void build(distance_tree *t, size_t *idx, const double *pts, size_t k,
         select_rank(idx, lo, hi, mid, pts, depth & 1);
         build(t, idx, pts, 2 * k, lo, mid, depth + 1);
         build(t, idx, pts, 2 * k + 1, mid, hi, depth + 1);
-        double *b = t->box + 4 * k, *l = t->box + 8 * k, *r = l + 4;
-        b[0] = fmin(l[0], r[0]);
-        b[1] = fmax(l[1], r[1]);
-        b[2] = fmin(l[2], r[2]);
-        b[3] = fmax(l[3], r[3]);
+        distance_node *b = &t->node[k];
+        const distance_node *l = &t->node[2 * k], *r = l + 1;
+        b->xlo = fmin(l->xlo, r->xlo);
+        b->xhi = fmax(l->xhi, r->xhi);
+        b->ylo = fmin(l->ylo, r->ylo);
+        b->yhi = fmax(l->yhi, r->yhi);
         return;
     }
-    double *b = t->box + 4 * k;
-    b[0] = b[2] = INFINITY;
-    b[1] = b[3] = -INFINITY;
+    distance_node *b = &t->node[k];
+    b->xlo = b->ylo = INFINITY;
+    b->xhi = b->yhi = -INFINITY;
     for (size_t i = lo; i < hi; i++) {
         double x = pts[2 * idx[i]], y = pts[2 * idx[i] + 1];
-        b[0] = fmin(b[0], x);
-        b[1] = fmax(b[1], x);
-        b[2] = fmin(b[2], y);
-        b[3] = fmax(b[3], y);
+        b->xlo = fmin(b->xlo, x);
+        b->xhi = fmax(b->xhi, x);
+        b->ylo = fmin(b->ylo, y);
+        b->yhi = fmax(b->yhi, y);
     }
+}
+
+/* minw and minp of the leaf k over the positions [lo, hi). */
+static void leaf_minima(distance_tree *t, size_t k, size_t lo, size_t hi)
+{
+    double m = INFINITY, mp = INFINITY;
+    for (size_t i = lo; i < hi; i++) {
+        m = distance_min(m, t->w[i]);
+        if (t->pref[i]) mp = distance_min(mp, t->w[i]);
+    }
+    t->node[k].minw = m;
+    t->node[k].minp = mp;
+}
+
+static void join_minima(distance_tree *t, size_t k)
+{
+    const distance_node *l = &t->node[2 * k], *r = l + 1;
+    t->node[k].minw = distance_min(l->minw, r->minw);
+    t->node[k].minp = distance_min(l->minp, r->minp);
 }
 
 static void refresh(distance_tree *t, size_t k, size_t lo, size_t hi)
@@ -105,12 +127,10 @@ static void refresh(distance_tree *t, size_t k, size_t lo, size_t hi)
         size_t mid = lo + (hi - lo) / 2;
         refresh(t, 2 * k, lo, mid);
         refresh(t, 2 * k + 1, mid, hi);
-        t->minw[k] = fmin(t->minw[2 * k], t->minw[2 * k + 1]);
+        join_minima(t, k);
         return;
     }
-    double m = INFINITY;
-    for (size_t i = lo; i < hi; i++) m = fmin(m, t->w[i]);
-    t->minw[k] = m;
+    leaf_minima(t, k, lo, hi);
 }
 
 int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
@@ -122,12 +142,12 @@ int ng_distance_tree_build(distance_tree *t, const double *pts, size_t n,
     t->x = ng_malloc(n, sizeof *t->x);
     t->y = ng_malloc(n, sizeof *t->y);
     t->w = ng_calloc(n, sizeof *t->w);
+    t->pref = ng_calloc(n, 1);
     t->id = ng_malloc(n, sizeof *t->id);
     t->pos = ng_malloc(n, sizeof *t->pos);
-    t->box = ng_malloc(t->nodes, 4 * sizeof *t->box);
-    t->minw = ng_calloc(t->nodes, sizeof *t->minw);
-    if (t->x == NULL || t->y == NULL || t->w == NULL || t->id == NULL ||
-        t->pos == NULL || t->box == NULL || t->minw == NULL) {
+    t->node = ng_calloc(t->nodes, sizeof *t->node);
+    if (t->x == NULL || t->y == NULL || t->w == NULL || t->pref == NULL ||
+        t->id == NULL || t->pos == NULL || t->node == NULL) {
         ng_distance_tree_free(t);
         return ng_error_set(err, NG_ERR_NOMEM,
                             "out of memory for a k-d tree of %zu diagram "
@@ -151,17 +171,23 @@ void ng_distance_tree_free(distance_tree *t)
     ng_free(t->x);
     ng_free(t->y);
     ng_free(t->w);
+    ng_free(t->pref);
     ng_free(t->id);
     ng_free(t->pos);
-    ng_free(t->box);
-    ng_free(t->minw);
+    ng_free(t->node);
     *t = (distance_tree){0};
 }
 
 void ng_distance_tree_set(distance_tree *t, size_t i, double w)
 {
+    ng_distance_tree_mark(t, i, w, t->pref[t->pos[i]]);
+}
+
+void ng_distance_tree_mark(distance_tree *t, size_t i, double w, int preferred)
+{
     size_t p = t->pos[i];
     t->w[p] = w;
+    t->pref[p] = preferred != 0;
     size_t path[128];
     size_t depth = 0, k = 1, lo = 0, hi = t->n;
     while (hi - lo > LEAF) {
@@ -175,13 +201,8 @@ void ng_distance_tree_set(distance_tree *t, size_t i, double w)
             lo = mid;
         }
     }
-    double m = INFINITY;
-    for (size_t j = lo; j < hi; j++) m = fmin(m, t->w[j]);
-    t->minw[k] = m;
-    while (depth > 0) {
-        k = path[--depth];
-        t->minw[k] = fmin(t->minw[2 * k], t->minw[2 * k + 1]);
-    }
+    leaf_minima(t, k, lo, hi);
+    while (depth > 0) join_minima(t, path[--depth]);
 }
 
 double ng_distance_tree_get(const distance_tree *t, size_t i)
@@ -195,21 +216,21 @@ void ng_distance_tree_set_all(distance_tree *t, const double *w)
     if (t->n > 0) refresh(t, 1, 0, t->n);
 }
 
-/* L∞ distance from q to the box of node k (0 inside). */
-static double box_dist(const double *b, double qx, double qy)
+/* L∞ distance from q to the box of node b (0 inside). */
+static double box_dist(const distance_node *b, double qx, double qy)
 {
     double dx = 0, dy = 0;
-    if (qx < b[0]) dx = b[0] - qx;
-    if (qx > b[1]) dx = qx - b[1];
-    if (qy < b[2]) dy = b[2] - qy;
-    if (qy > b[3]) dy = qy - b[3];
+    if (qx < b->xlo) dx = b->xlo - qx;
+    if (qx > b->xhi) dx = qx - b->xhi;
+    if (qy < b->ylo) dy = b->ylo - qy;
+    if (qy > b->yhi) dy = qy - b->yhi;
     return dx > dy ? dx : dy;
 }
 
 static size_t find(const distance_tree *t, size_t k, size_t lo, size_t hi,
                    double qx, double qy, double r, double wmax)
 {
-    if (t->minw[k] > wmax || box_dist(t->box + 4 * k, qx, qy) > r)
+    if (t->node[k].minw > wmax || box_dist(&t->node[k], qx, qy) > r)
         return DISTANCE_NONE;
     if (hi - lo <= LEAF) {
         for (size_t i = lo; i < hi; i++)
@@ -232,55 +253,90 @@ size_t ng_distance_tree_find(const distance_tree *t, double qx, double qy,
 }
 
 typedef struct best2 {
-    size_t best;
+    size_t best, second;
+    int preferred; /* best is a preferred point */
     double v1, v2;
 } best2;
 
-static void best2_walk(const distance_tree *t, size_t k, size_t lo,
-                       size_t hi, double qx, double qy, double p, best2 *s)
+/* Nothing in node k, at distance^p reach from q, can lower v2 nor tie v1
+ * with a preferred point. */
+static int best2_prunes(const distance_tree *t, size_t k, double reach,
+                        const best2 *s)
 {
-    double bound =
-        distance_pow(box_dist(t->box + 4 * k, qx, qy), p) + t->minw[k];
-    if (bound >= s->v2) return;
-    if (hi - lo <= LEAF) {
-        for (size_t i = lo; i < hi; i++) {
-            double v = distance_pow(distance_linf(qx, qy, t->x[i], t->y[i]),
-                                    p) +
-                       t->w[i];
-            if (v < s->v1) {
-                s->v2 = s->v1;
-                s->v1 = v;
-                s->best = t->id[i];
-            } else if (v < s->v2) {
-                s->v2 = v;
-            }
+    double tie = reach + t->node[k].minp;
+    return reach + t->node[k].minw >= s->v2 &&
+           (s->preferred || !(tie <= s->v1 && tie < INFINITY));
+}
+
+static void best2_leaf(const distance_tree *t, size_t lo, size_t hi,
+                       double qx, double qy, double p, best2 *s)
+{
+    for (size_t i = lo; i < hi; i++) {
+        double v =
+            distance_pow(distance_linf(qx, qy, t->x[i], t->y[i]), p) + t->w[i];
+        if (v < s->v1 || (v == s->v1 && t->pref[i] && !s->preferred)) {
+            s->v2 = s->v1;
+            s->second = s->best;
+            s->v1 = v;
+            s->best = t->id[i];
+            s->preferred = t->pref[i];
+        } else if (v < s->v2) {
+            s->v2 = v;
+            s->second = t->id[i];
         }
-        return;
     }
-    size_t mid = lo + (hi - lo) / 2;
-    /* the nearer child first: tighter bounds sooner */
-    size_t c1 = 2 * k, c2 = 2 * k + 1;
-    size_t l1 = lo, h1 = mid, l2 = mid, h2 = hi;
-    double d1 = box_dist(t->box + 4 * c1, qx, qy) + t->minw[c1];
-    double d2 = box_dist(t->box + 4 * c2, qx, qy) + t->minw[c2];
-    if (d2 < d1) {
-        c1 = 2 * k + 1;
-        c2 = 2 * k;
-        l1 = mid;
-        h1 = hi;
-        l2 = lo;
-        h2 = mid;
+}
+
+/* Depth first, the child of lower bound first (tighter bounds sooner),
+ * with an explicit stack (at most one frame per level and one more; a tree
+ * has fewer than 64 levels); a node's bound is computed once, when its
+ * parent is expanded, and checked again when it is popped. */
+static void best2_walk(const distance_tree *t, double qx, double qy,
+                       double p, best2 *s)
+{
+    struct frame {
+        size_t k, lo, hi;
+        double reach;
+    } stack[2 * 64];
+    size_t top = 0;
+    stack[top++] = (struct frame){1, 0, t->n,
+                                  distance_pow(box_dist(&t->node[1], qx, qy),
+                                               p)};
+    while (top > 0) {
+        struct frame f = stack[--top];
+        if (best2_prunes(t, f.k, f.reach, s)) continue;
+        if (f.hi - f.lo <= LEAF) {
+            best2_leaf(t, f.lo, f.hi, qx, qy, p, s);
+            continue;
+        }
+        size_t mid = f.lo + (f.hi - f.lo) / 2, c1 = 2 * f.k, c2 = c1 + 1;
+        double r1 = distance_pow(box_dist(&t->node[c1], qx, qy), p);
+        double r2 = distance_pow(box_dist(&t->node[c2], qx, qy), p);
+        struct frame near = {c1, f.lo, mid, r1}, far = {c2, mid, f.hi, r2};
+        if (r2 + t->node[c2].minw < r1 + t->node[c1].minw) {
+            near = (struct frame){c2, mid, f.hi, r2};
+            far = (struct frame){c1, f.lo, mid, r1};
+        }
+        if (!best2_prunes(t, far.k, far.reach, s)) stack[top++] = far;
+        if (!best2_prunes(t, near.k, near.reach, s)) stack[top++] = near;
     }
-    best2_walk(t, c1, l1, h1, qx, qy, p, s);
-    best2_walk(t, c2, l2, h2, qx, qy, p, s);
+}
+
+size_t ng_distance_tree_best_two(const distance_tree *t, double qx,
+                                 double qy, double p, double *v1,
+                                 size_t *second, double *v2)
+{
+    best2 s = {DISTANCE_NONE, DISTANCE_NONE, 0, INFINITY, INFINITY};
+    if (t->n > 0) best2_walk(t, qx, qy, p, &s);
+    *v1 = s.v1;
+    *v2 = s.v2;
+    *second = s.second;
+    return s.best;
 }
 
 size_t ng_distance_tree_best2(const distance_tree *t, double qx, double qy,
                               double p, double *v1, double *v2)
 {
-    best2 s = {DISTANCE_NONE, INFINITY, INFINITY};
-    if (t->n > 0) best2_walk(t, 1, 0, t->n, qx, qy, p, &s);
-    *v1 = s.v1;
-    *v2 = s.v2;
-    return s.best;
+    size_t second;
+    return ng_distance_tree_best_two(t, qx, qy, p, v1, &second, v2);
 }

@@ -1,14 +1,15 @@
 /* distance_tool.c — test-only program: diagram distances of many pairs of
  * diagrams from a raw file, for the reference check tests/ref_distance.py.
  *
- * Usage: distance_tool IN OUT [auto|exact|auction] [REL_ERROR]
+ * Usage: distance_tool IN OUT [auto|exact|paths] [REL_ERROR]
  *
  * IN (little-endian): the 8 bytes "NGDISTIN", uint64 cases, then per case
  * uint64 na, uint64 nb, na × 2 float64 (birth, death), nb × 2 float64.
  * OUT: the 8 bytes "NGDISTOU", uint64 cases, then per case 5 float64:
  * bottleneck, W1, bound of W1, W2, bound of W2 (ng_wasserstein_distance
  * with REL_ERROR, default 1e-6). The method forces the Wasserstein solver:
- * exact (Hungarian) or auction for every size, or the library's choice.
+ * the Hungarian method (exact) or shortest augmenting paths on the
+ * geometric graph (paths) for every size, or the library's choice.
  * Exit code 0 on success, 1 on failure (message on stderr).
  */
 #include "nervegap/distance.h"
@@ -46,14 +47,14 @@ static int read_doubles(FILE *f, double *x, size_t n)
 int main(int argc, char **argv)
 {
     if (argc < 3 || argc > 5) {
-        fprintf(stderr, "usage: distance_tool IN OUT [auto|exact|auction] "
+        fprintf(stderr, "usage: distance_tool IN OUT [auto|exact|paths] "
                         "[REL_ERROR]\n");
         return 1;
     }
     if (argc >= 4) {
         if (strcmp(argv[3], "exact") == 0)
             ng_distance_set_exact_limit(SIZE_MAX - 1);
-        else if (strcmp(argv[3], "auction") == 0)
+        else if (strcmp(argv[3], "paths") == 0)
             ng_distance_set_exact_limit(0);
         else if (strcmp(argv[3], "auto") != 0) {
             fprintf(stderr, "distance_tool: unknown method %s\n", argv[3]);

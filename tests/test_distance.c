@@ -4,9 +4,11 @@
  * inequality) on random diagrams; the exact bottleneck against a plain
  * search written here (every cost listed, a simple augmenting-path
  * matching on the explicit augmented graph) on diagrams large enough for
- * the candidate sampling of bottleneck.c to run; the auction against the
- * Hungarian method within the bound it reports; input errors; allocation
- * failures. `test_distance --slow` adds the 2,000-point auction case.
+ * the candidate sampling of bottleneck.c to run; the method of large
+ * diagrams (shortest augmenting paths) against the Hungarian method, with
+ * ties and duplicate points, within the bound it certifies; that bound on
+ * hand values; the k-d tree's queries against a scan; input errors;
+ * allocation failures. `test_distance --slow` adds the 2,000-point case.
  */
 #include "nervegap/distance.h"
 
@@ -315,83 +317,237 @@ START_TEST(bottleneck_against_plain_search)
 }
 END_TEST
 
-/* ---- the auction against the Hungarian method ---- */
+/* ---- the method of large diagrams against the Hungarian method ---- */
 
-static void auction_against_exact(size_t n, uint64_t seed)
+/* The large method on (a, b): W_p, the certified bound and, through
+ * *sum_out / *lower_out, the primal total and the dual lower bound. */
+static double paths(const double *a, size_t na, const double *b, size_t nb,
+                    double p, double *bound, double *sum_out,
+                    double *lower_out)
+{
+    ng_error err;
+    ng_error_clear(&err);
+    double sum = -1, sum_err = -1, lower = INFINITY;
+    ck_assert_int_eq(ng_distance_wasserstein_paths(a, na, b, nb, p, &sum,
+                                                   &sum_err, &lower, &err),
+                     NG_OK);
+    ck_assert(sum >= 0 && sum_err >= 0 && lower <= sum + sum_err);
+    *bound = ng_distance_relative_bound(p, sum, sum_err, lower, 0.0, 0.0);
+    *sum_out = sum;
+    *lower_out = lower;
+    return pow(sum, 1 / p);
+}
+
+static double hungarian(const double *a, size_t na, const double *b,
+                        size_t nb, double p)
+{
+    ng_error err;
+    ng_error_clear(&err);
+    double sum = -1;
+    ck_assert_int_eq(
+        ng_distance_wasserstein_exact(a, na, b, nb, p, &sum, &err), NG_OK);
+    return sum;
+}
+
+/* Both methods on (a, b), p = 1, 2, 1.5, 3: the same optimum within the
+ * certified bound. The Hungarian sum is a plain one, hence the 1e-13
+ * beside it. */
+static void compare_methods(const double *a, size_t na, const double *b,
+                            size_t nb, const char *what)
+{
+    static const double ps[] = {1, 2, 1.5, 3}; /* general p through pow */
+    for (size_t k = 0; k < sizeof ps / sizeof ps[0]; k++) {
+        double p = ps[k];
+        double exact_sum = hungarian(a, na, b, nb, p);
+        double bound, sum, lower;
+        double w = paths(a, na, b, nb, p, &bound, &sum, &lower);
+        double exact = pow(exact_sum, 1 / p);
+        /* LP duality (weak duality for the dual shares, the Hungarian
+         * optimum for the primal): lower ≤ optimum ≤ any matching */
+        ck_assert_msg(lower <= exact_sum * (1 + 1e-13) + 1e-300,
+                      "%s p=%g: lower %.17g above the optimum %.17g", what,
+                      p, lower, exact_sum);
+        ck_assert_msg(sum >= exact_sum * (1 - 1e-13), "%s p=%g", what, p);
+        /* the certified bound covers the actual relative error */
+        ck_assert_msg(fabs(w - exact) <= (bound + 1e-13) * exact,
+                      "%s p=%g: %.17g vs %.17g (bound %g)", what, p, w,
+                      exact, bound);
+        /* the method is exact: what is left is rounding */
+        ck_assert_msg(bound <= 1e-10, "%s p=%g: bound %g", what, p, bound);
+    }
+}
+
+static void paths_against_exact(size_t n, uint64_t seed)
 {
     rng_state = seed;
     double *a = random_diagram(n, 0);
     double *b = perturbed(a, n - n / 10, 0.05);
     double *c = random_diagram(n / 2, 1);
-    for (double p = 1; p <= 2; p++) {
-        for (int which = 0; which < 2; which++) {
-            const double *q = which ? c : b;
-            size_t nq = which ? n / 2 : n - n / 10;
-            ng_error err;
-            ng_error_clear(&err);
-            double exact;
-            ck_assert_int_eq(
-                ng_distance_wasserstein_exact(a, n, q, nq, p, &exact, &err),
-                NG_OK);
-            exact = pow(exact, 1 / p);
-            const double rels[] = {1e-2, 1e-6};
-            for (int k = 0; k < 2; k++) {
-                double sum, bound;
-                ck_assert_int_eq(ng_distance_wasserstein_auction(
-                                     a, n, q, nq, p, rels[k], 0.0, &sum,
-                                     &bound, &err),
-                                 NG_OK);
-                double w = pow(sum, 1 / p);
-                /* the bound the auction reports must hold and must meet
-                 * the request (Bertsekas 1988: ε-complementary slackness;
-                 * LP duality for the dual bound) */
-                ck_assert(bound <= rels[k]);
-                ck_assert_msg(fabs(w - exact) <= (bound + 1e-12) * exact,
-                              "n=%zu p=%g rel=%g: %.17g vs %.17g (bound %g)",
-                              n, p, rels[k], w, exact, bound);
-                ck_assert(w >= exact * (1 - 1e-12)); /* a matching's cost */
-            }
-        }
-    }
+    compare_methods(a, n, b, n - n / 10, "perturbed copy");
+    compare_methods(a, n, c, n / 2, "grid diagram");
+    compare_methods(c, n / 2, a, n, "grid diagram, swapped");
     free(a);
     free(b);
     free(c);
 }
 
-START_TEST(auction_matches_hungarian)
+START_TEST(paths_match_hungarian)
 {
-    auction_against_exact(150, 21); /* augmented 285 and 225 */
+    paths_against_exact(150, 21); /* augmented 285 and 225 */
+    paths_against_exact(320, 24); /* augmented 608 and 480 */
 }
 END_TEST
 
-START_TEST(auction_matches_hungarian_2000)
+START_TEST(paths_match_hungarian_2000)
 {
-    auction_against_exact(1000, 22); /* augmented 1,900 and 1,500 */
+    paths_against_exact(1000, 22); /* augmented 1,900 and 1,500 */
+}
+END_TEST
+
+START_TEST(paths_with_duplicates)
+{
+    /* 300 points drawn from 6 distinct ones against 250 from 4 of them
+     * plus one other: the ties that make every search meet many points of
+     * equal reduced cost */
+    const double pool[] = {0.0, 1.0, 0.0, 1.0 + 1e-9, 0.5, 2.0,
+                           0.25, 0.5, 1.0, 1.25, 0.0, 1.0};
+    rng_state = 25;
+    double a[600], b[500];
+    for (size_t i = 0; i < 300; i++) {
+        size_t k = (size_t)(rng_uniform() * 6);
+        a[2 * i] = pool[2 * k];
+        a[2 * i + 1] = pool[2 * k + 1];
+    }
+    for (size_t i = 0; i < 250; i++) {
+        size_t k = (size_t)(rng_uniform() * 5);
+        b[2 * i] = k < 4 ? pool[2 * k] : 0.3;
+        b[2 * i + 1] = k < 4 ? pool[2 * k + 1] : 0.9;
+    }
+    compare_methods(a, 300, b, 250, "duplicates");
+    compare_methods(a, 300, a, 300, "duplicates against themselves");
+    compare_methods(a, 300, NULL, 0, "duplicates against empty");
+    compare_methods(NULL, 0, b, 250, "empty against duplicates");
+    /* a diagram against itself costs exactly 0 and is certified so */
+    double bound, sum, lower;
+    ck_assert(paths(a, 300, a, 300, 2, &bound, &sum, &lower) == 0.0);
+    ck_assert(bound == 0.0);
+}
+END_TEST
+
+START_TEST(relative_bound_by_hand)
+{
+    /* hand computation: a matching of cost 1.1 against an optimum ≥ 1 is
+     * up to 10 % too high; for p = 2, √1.21 = 1.1 likewise */
+    double u = 0x1.0p-53;
+    ck_assert_double_eq_tol(ng_distance_relative_bound(1, 1.1, 0, 1.0, 0, 0),
+                            0.1, 1e-14);
+    ck_assert_double_eq_tol(ng_distance_relative_bound(2, 1.21, 0, 1.0, 0, 0),
+                            0.1, 1e-14);
+    /* the essential part counts on both sides: (1 + 3)/(0.5 + 3) − 1 */
+    ck_assert_double_eq_tol(ng_distance_relative_bound(1, 1.0, 0, 0.5, 3.0, 0),
+                            1.0 / 7, 1e-14);
+    /* a rounding allowance on the primal: the value may be 2/(2 + 1e-9)
+     * of the optimum; equality leaves only the bound's own rounding */
+    ck_assert_double_eq_tol(
+        ng_distance_relative_bound(1, 2.0, 1e-9, 2.0, 0, 0), 0.5e-9, 1e-14);
+    ck_assert(ng_distance_relative_bound(1, 2.0, 0, 2.0, 0, 0) <= 8 * u);
+    /* nothing to certify from: +inf; exactly nothing to match: 0 */
+    ck_assert(isinf(ng_distance_relative_bound(1, 1.0, 0, 0.0, 0, 0)));
+    ck_assert(ng_distance_relative_bound(2, 0.0, 0, 0.0, 0, 0) == 0.0);
 }
 END_TEST
 
 START_TEST(public_entry_uses_both_methods)
 {
-    /* the same problem through the exact path and the forced auction */
+    /* the same problem through the exact path and the forced large one */
     rng_state = 23;
     double *a = random_diagram(100, 0), *b = perturbed(a, 90, 0.03);
     ng_error err;
     ng_error_clear(&err);
-    double w_exact, w_auction, bound = -1;
+    double w_exact, w_paths, bound = -1;
+    size_t old = ng_distance_set_exact_limit(SIZE_MAX - 1);
     ck_assert_int_eq(ng_wasserstein_distance(a, 100, b, 90, 1, 1e-6,
                                              &w_exact, &bound, &err),
                      NG_OK);
-    ck_assert(bound == 0.0); /* 190 ≤ the exact limit (200) */
-    size_t old = ng_distance_set_exact_limit(0);
+    ck_assert(bound == 0.0); /* the Hungarian method reports 0 */
+    ng_distance_set_exact_limit(0);
     ck_assert_int_eq(ng_wasserstein_distance(a, 100, b, 90, 1, 1e-6,
-                                             &w_auction, &bound, &err),
+                                             &w_paths, &bound, &err),
                      NG_OK);
     ng_distance_set_exact_limit(old);
-    ck_assert(bound > 0.0 || w_auction == w_exact);
-    ck_assert(bound <= 1e-6);
-    ck_assert(fabs(w_auction - w_exact) <= (bound + 1e-12) * w_exact);
+    ck_assert(bound > 0.0 && bound <= 1e-10);
+    ck_assert(fabs(w_paths - w_exact) <= (bound + 1e-13) * w_exact);
     free(a);
     free(b);
+}
+END_TEST
+
+/* ---- the weighted k-d tree ---- */
+
+START_TEST(tree_best2_against_scan)
+{
+    /* the two least values and the preference among ties, against a scan
+     * of every point; weights on a coarse grid and repeated points make
+     * ties common */
+    rng_state = 26;
+    size_t n = 500;
+    double *pts = random_diagram(n, 1);
+    for (size_t i = 0; i < n / 5; i++) { /* duplicates */
+        size_t k = (size_t)(rng_uniform() * n);
+        pts[2 * i] = pts[2 * k];
+        pts[2 * i + 1] = pts[2 * k + 1];
+    }
+    double *w = malloc(n * sizeof *w);
+    int *pref = malloc(n * sizeof *pref);
+    ck_assert(w && pref);
+    distance_tree t;
+    ng_error err;
+    ng_error_clear(&err);
+    ck_assert_int_eq(ng_distance_tree_build(&t, pts, n, &err), NG_OK);
+    for (int round = 0; round < 40; round++) {
+        for (size_t i = 0; i < n; i++) {
+            double r = rng_uniform();
+            w[i] = r < 0.1 ? INFINITY : floor(r * 4) / 8 - 0.25;
+            pref[i] = rng_uniform() < (round % 2 ? 0.05 : 0.5);
+            ng_distance_tree_mark(&t, i, w[i], pref[i]);
+        }
+        for (int q = 0; q < 50; q++) {
+            double qx = floor(rng_uniform() * 8) / 8;
+            double qy = qx + floor(rng_uniform() * 4) / 8;
+            double p = q % 2 ? 1.0 : 2.0;
+            double v1, v2, s1 = INFINITY, s2 = INFINITY;
+            int tie_pref = 0;
+            for (size_t i = 0; i < n; i++) {
+                double v = distance_pow(
+                               distance_linf(qx, qy, pts[2 * i],
+                                             pts[2 * i + 1]),
+                               p) +
+                           w[i];
+                if (v < s1) {
+                    s2 = s1;
+                    s1 = v;
+                } else if (v < s2) {
+                    s2 = v;
+                }
+            }
+            for (size_t i = 0; i < n; i++)
+                if (pref[i] && distance_pow(distance_linf(qx, qy, pts[2 * i],
+                                                          pts[2 * i + 1]),
+                                            p) + w[i] == s1)
+                    tie_pref = 1;
+            size_t best = ng_distance_tree_best2(&t, qx, qy, p, &v1, &v2);
+            ck_assert(v1 == s1 && v2 == s2);
+            ck_assert(best != DISTANCE_NONE);
+            ck_assert(distance_pow(distance_linf(qx, qy, pts[2 * best],
+                                                 pts[2 * best + 1]),
+                                   p) + w[best] == s1);
+            if (tie_pref && isfinite(s1)) ck_assert(pref[best]);
+        }
+    }
+    ng_distance_tree_free(&t);
+    free(pts);
+    free(w);
+    free(pref);
 }
 END_TEST
 
@@ -455,7 +611,7 @@ START_TEST(allocation_failures_are_clean)
     rng_state = 31;
     double *a = random_diagram(300, 0), *b = perturbed(a, 290, 0.05);
     for (int kind = 0; kind < 3; kind++) {
-        /* 0: bottleneck; 1: the exact Wasserstein method; 2: the auction */
+        /* 0: bottleneck; 1: the Hungarian method; 2: the large method */
         size_t na = kind == 1 ? 60 : 300, nb = kind == 1 ? 50 : 290;
         ng_distance_set_exact_limit(kind == 1 ? SIZE_MAX - 1 : 0);
         int ok = 0;
@@ -518,7 +674,10 @@ static Suite *distance_suite(int slow)
     tcase_add_test(tc, identity_and_symmetry);
     tcase_add_test(tc, triangle_inequality);
     tcase_add_test(tc, bottleneck_against_plain_search);
-    tcase_add_test(tc, auction_matches_hungarian);
+    tcase_add_test(tc, paths_match_hungarian);
+    tcase_add_test(tc, paths_with_duplicates);
+    tcase_add_test(tc, relative_bound_by_hand);
+    tcase_add_test(tc, tree_best2_against_scan);
     tcase_add_test(tc, public_entry_uses_both_methods);
     tcase_add_test(tc, input_errors);
     tcase_add_test(tc, allocation_failures_are_clean);
@@ -527,7 +686,7 @@ static Suite *distance_suite(int slow)
     if (slow) {
         TCase *big = tcase_create("slow");
         tcase_set_timeout(big, 1800);
-        tcase_add_test(big, auction_matches_hungarian_2000);
+        tcase_add_test(big, paths_match_hungarian_2000);
         suite_add_tcase(s, big);
     }
     return s;

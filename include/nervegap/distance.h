@@ -29,12 +29,16 @@ NG_API int ng_bottleneck_distance(const double *a, size_t na, const double *b,
                                   size_t nb, double *out, ng_error *err);
 
 /* p-Wasserstein distance W_p = (min over matchings of Σ cost^p)^(1/p) for
- * any p ≥ 1. Small problems (see EXACT_LIMIT in wasserstein.c) are
- * solved exactly (Hungarian method) and report *achieved_rel_error = 0;
- * larger ones by an auction with ε-scaling, stopped once the guaranteed
- * bound |W − W_p| / W_p ≤ *achieved_rel_error is ≤ rel_error (a caller
- * with no opinion passes 1e-6). rel_error = 0 asks for as much as the
- * auction can give; the bound actually reached is reported either way.
+ * any p ≥ 1, computed exactly up to floating-point rounding: the Hungarian
+ * method for very small problems (reporting *achieved_rel_error = 0) and
+ * shortest augmenting paths on the geometric graph otherwise, which
+ * certifies its result by a dual (lower) bound of the optimum: then
+ * *achieved_rel_error is a true bound on |W − W_p| / W_p for the value
+ * returned, rounding included (typically 1e-14; it is larger only when the
+ * distance is tiny beside the coordinates, so that rounding dominates).
+ * rel_error is the relative error the caller can accept (a caller with no
+ * opinion passes 1e-6); nothing is gained by asking for less, and the
+ * bound reached is reported either way, so the caller can compare.
  * achieved_rel_error may be NULL. On failure *out and *achieved_rel_error
  * are left untouched and the status is NG_ERR_USAGE (p < 1 or NaN,
  * rel_error < 0 or NaN, NULL arguments), NG_ERR_INPUT (a bad point, as for
