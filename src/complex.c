@@ -201,6 +201,9 @@ typedef struct walk {
     ng_index *buf[NG_COMPLEX_MAX_DIM + 1]; /* storage for levels ≥ 2 */
     ng_index chain[NG_COMPLEX_MAX_DIM + 1]; /* w > u_1 > u_2 > … */
     size_t count[NG_COMPLEX_MAX_DIM + 1];   /* counting walk */
+    size_t counted, limit; /* counting walk: stop after limit simplices */
+    int *stop;             /* counting walk: shared "over the limit" flag,
+                              or NULL for no limit */
     ng_index *const *dest;                  /* filling walk: vert tables */
     size_t cursor[NG_COMPLEX_MAX_DIM + 1];
 } walk;
@@ -219,6 +222,20 @@ static size_t count_below(const ng_index *a, size_t len, ng_index x)
     return lo;
 }
 
+/* Counting walk with a limit: counts one simplex; 1 when this walk or
+ * another one sharing the flag has gone past the limit. */
+static int past_limit(walk *wk)
+{
+    if (++wk->counted > wk->limit) {
+#pragma omp atomic write
+        *wk->stop = 1;
+    }
+    int stop;
+#pragma omp atomic read
+    stop = *wk->stop;
+    return stop;
+}
+
 /* chain[0..level-1] is a clique; cand[level] holds its common lower
  * neighbours below chain[level-1]. Visits every extension. */
 static void descend(walk *wk, int level)
@@ -235,6 +252,7 @@ static void descend(walk *wk, int level)
             for (int r = 0; r <= level; r++) dst[r] = wk->chain[level - r];
         } else {
             wk->count[level]++;
+            if (wk->stop && past_limit(wk)) return;
         }
         if (level >= wk->top_dim || level >= NG_COMPLEX_MAX_DIM || idx == 0)
             continue;
@@ -324,6 +342,17 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
 int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
                         int threads, ng_complex_size *out, ng_error *err)
 {
+    int over;
+    return ng_complex_estimate_capped(graph, top_dim, n_filtrations, threads,
+                                      SIZE_MAX, out, &over, err);
+}
+
+int ng_complex_estimate_capped(const ng_csr *graph, int top_dim,
+                               int n_filtrations, int threads,
+                               size_t max_simplices, ng_complex_size *out,
+                               int *over, ng_error *err)
+{
+    *over = 0;
     if (out) memset(out, 0, sizeof *out);
     if (out == NULL)
         return ng_error_set(err, NG_ERR_USAGE, "complex: no output");
@@ -337,10 +366,14 @@ int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
                             "complex: out of memory for the clique walk");
     size_t total[NG_COMPLEX_MAX_DIM + 1] = {0};
     long long nv = (long long)graph->n;
+    int stop = 0;
 #pragma omp parallel num_threads(nt)
     {
         walk wk;
         walk_init(&wk, graph, top_dim, scratch, maxdeg, omp_get_thread_num());
+        wk.limit = max_simplices;
+        wk.stop = &stop;
+        /* past the limit, the remaining iterations return at once */
 #pragma omp for schedule(dynamic, 64)
         for (long long w = 0; w < nv; w++) walk_from(&wk, (ng_index)w);
 #pragma omp critical(ng_complex_estimate)
@@ -351,6 +384,11 @@ int ng_complex_estimate(const ng_csr *graph, int top_dim, int n_filtrations,
     for (int k = 0; k <= top_dim; k++) {
         out->count[k] = total[k];
         out->total += total[k];
+    }
+    if (stop) {
+        *over = 1;
+        out->bytes_build = out->bytes_reduce = SIZE_MAX;
+        return NG_OK;
     }
     size_bytes(out, graph->n, graph->offset[graph->n], top_dim,
                n_filtrations);

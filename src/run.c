@@ -140,9 +140,11 @@ static int keep_edge(size_t i, size_t j, double d, void *opaque)
 
 /* Builds the graph of pairs with edge value ≤ T, keeping at most cap
  * directed pairs; *over tells whether the cap was hit (the graph is then
- * incomplete and only good for freeing). */
+ * incomplete and only good for freeing), *pairs how many directed pairs
+ * there are (counted past the cap, so that a message can say how much the
+ * graph would need). */
 static int graph_at(const ng_space *s, double T, size_t cap, int threads,
-                    ng_csr *out, int *over, ng_error *err)
+                    ng_csr *out, int *over, size_t *pairs, ng_error *err)
 {
     graph_ctx g = {s, T, cap, 0, 0};
     int status;
@@ -159,6 +161,7 @@ static int graph_at(const ng_space *s, double T, size_t cap, int threads,
                 if (j != i && keep_edge(i, j, s->dist[i * n + j], &g)) count++;
             out->offset[i + 1] = count;
         }
+        *pairs = g.kept;
         if (g.over) {
             ng_csr_free(out);
             *over = 1;
@@ -199,6 +202,7 @@ static int graph_at(const ng_space *s, double T, size_t cap, int threads,
                                  keep_edge, &g, threads, out, err);
     ng_free(radius);
     *over = g.over;
+    *pairs = g.kept;
     return status;
 }
 
@@ -209,6 +213,9 @@ typedef struct probe {
     int fits;
     ng_complex_size size;
     size_t bytes;          /* graph + complex + reductions */
+    size_t graph_bytes;    /* building the graph alone (also when over the
+                              cap) */
+    int complex_over;      /* the count stopped: more simplices than fit */
 } probe;
 
 static size_t graph_bytes(size_t directed_pairs, size_t n)
@@ -217,29 +224,44 @@ static size_t graph_bytes(size_t directed_pairs, size_t n)
            (n + 1) * sizeof(size_t);
 }
 
+/* Peak bytes per directed pair while the graph is built: the k-d tree
+ * query collects the pairs as 16-byte entries in lists grown by doubling
+ * (up to 32 bytes a pair), then copies them into the graph (12 bytes). */
+#define GRAPH_BUILD_PEAK 44
+
 /* Size of the complex at T; keeps the graph in *keep when it fits and
  * keep is not NULL. */
 static probe probe_at(const ng_space *s, double T, const ng_run_options *opt,
                       int n_filtrations, ng_csr *keep, ng_error *err)
 {
-    probe p = {NG_OK, 0, {{0}, 0, 0, 0}, 0};
+    probe p = {NG_OK, 0, {{0}, 0, 0, 0}, 0, 0, 0};
     int team = opt->threads > 0 ? opt->threads : 1;
     size_t reductions = (size_t)(n_filtrations < team ? n_filtrations : team);
-    /* pairs alone must leave room: each costs ≥ 12 bytes in the graph */
-    size_t cap = opt->budget_bytes / (sizeof(ng_index) + sizeof(double));
+    /* pairs alone must leave room: each costs GRAPH_BUILD_PEAK bytes while
+     * the graph is built */
+    size_t cap = opt->budget_bytes / GRAPH_BUILD_PEAK;
     ng_csr g;
     int over = 0;
-    p.status = graph_at(s, T, cap, opt->threads, &g, &over, err);
+    size_t pairs = 0;
+    p.status = graph_at(s, T, cap, opt->threads, &g, &over, &pairs, err);
     if (p.status != NG_OK) return p;
+    p.graph_bytes = pairs > SIZE_MAX / GRAPH_BUILD_PEAK
+                        ? SIZE_MAX
+                        : pairs * GRAPH_BUILD_PEAK;
     if (over) {
         ng_csr_free(&g);
         p.bytes = SIZE_MAX;
         return p;
     }
-    p.status = ng_complex_estimate(&g, opt->max_degree + 1, n_filtrations,
-                                   opt->threads, &p.size, err);
-    if (p.status != NG_OK) {
+    /* every simplex of dimension ≥ 1 costs ≥ 16 bytes in the complex:
+     * more of them than budget / 16 cannot fit, and are not counted */
+    p.status = ng_complex_estimate_capped(&g, opt->max_degree + 1,
+                                          n_filtrations, opt->threads,
+                                          opt->budget_bytes / 16, &p.size,
+                                          &p.complex_over, err);
+    if (p.status != NG_OK || p.complex_over) {
         ng_csr_free(&g);
+        p.bytes = SIZE_MAX;
         return p;
     }
     size_t gb = graph_bytes(g.offset[g.n], g.n);
@@ -249,6 +271,9 @@ static probe probe_at(const ng_space *s, double T, const ng_run_options *opt,
         p.bytes = SIZE_MAX;
     else
         p.bytes += reductions * p.size.bytes_reduce;
+    /* the graph's construction peak must fit as well as what follows */
+    size_t build_peak = g.offset[g.n] * GRAPH_BUILD_PEAK;
+    if (build_peak > p.bytes) p.bytes = build_peak;
     p.fits = p.bytes <= opt->budget_bytes;
     if (p.fits && keep) *keep = g;
     else ng_csr_free(&g);
@@ -451,12 +476,22 @@ static int choose_scale(const ng_space *s, const ng_run_options *opt, int L,
         char need[64], have[64];
         size_text(p.bytes, need, sizeof need);
         size_text(opt->budget_bytes, have, sizeof have);
-        if (p.bytes == SIZE_MAX)
+        if (p.complex_over)
             return ng_error_set(err, NG_ERR_BUDGET,
-                                "--scale-limit %.17g: the neighbour graph "
-                                "alone exceeds the budget of %s; "
-                                "--scale-limit %.6g would fit (or raise "
-                                "--budget)", T, have, fit);
+                                "--scale-limit %.17g: the complex would have "
+                                "more than %zu simplices and need more than "
+                                "%s, the budget; --scale-limit %.6g would fit "
+                                "(or raise --budget or lower --max-degree)",
+                                T, p.size.total, have, fit);
+        if (p.bytes == SIZE_MAX) {
+            size_text(p.graph_bytes, need, sizeof need);
+            return ng_error_set(err, NG_ERR_BUDGET,
+                                "--scale-limit %.17g: building the "
+                                "neighbour graph alone would need %s, more "
+                                "than the budget of %s; --scale-limit %.6g "
+                                "would fit (or raise --budget)", T, need,
+                                have, fit);
+        }
         return ng_error_set(err, NG_ERR_BUDGET,
                             "--scale-limit %.17g: the complex would have "
                             "%zu simplices and need %s, more than the budget "

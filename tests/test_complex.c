@@ -341,6 +341,42 @@ START_TEST(test_complete_graph)
 }
 END_TEST
 
+/* The capped count: a complete graph on 60 vertices has C(60, k+1)
+ * k-simplices (binomial coefficients: elementary); up to dimension 4 that
+ * is 1770 + 34220 + 487635 + 5461512 simplices of dimension ≥ 1. A cap
+ * above that changes nothing; a cap below it stops the count early. */
+START_TEST(test_estimate_capped)
+{
+    rng_state = 8;
+    unsigned char *adj;
+    ng_csr g;
+    random_graph(60, 1.0, &adj, &g);
+    ng_complex_size full, capped;
+    ng_error err;
+    ng_error_clear(&err);
+    int over = -1;
+    ck_assert_int_eq(ng_complex_estimate_capped(&g, 4, 1, 2, 6000000, &full,
+                                                &over, &err), NG_OK);
+    ck_assert_int_eq(over, 0);
+    ck_assert_uint_eq(full.count[1], 1770);
+    ck_assert_uint_eq(full.count[4], 5461512);
+    ck_assert_uint_eq(full.total, 60 + 1770 + 34220 + 487635 + 5461512);
+    ck_assert_uint_lt(full.bytes_build, SIZE_MAX);
+    for (int threads = 1; threads <= 2; threads++) {
+        ck_assert_int_eq(ng_complex_estimate_capped(&g, 4, 1, threads, 10000,
+                                                    &capped, &over, &err),
+                         NG_OK);
+        ck_assert_int_eq(over, 1);
+        ck_assert_uint_gt(capped.total, 10000);
+        ck_assert_uint_lt(capped.total, full.total);
+        ck_assert_uint_eq(capped.bytes_build, SIZE_MAX);
+        ck_assert_uint_eq(capped.bytes_reduce, SIZE_MAX);
+    }
+    free(adj);
+    csr_release(&g);
+}
+END_TEST
+
 START_TEST(test_errors)
 {
     rng_state = 99;
@@ -442,6 +478,7 @@ static Suite *complex_suite(void)
     tcase_add_test(tc, test_key_round_trip_large);
     tcase_add_loop_test(tc, test_cliques_random, 0, 10);
     tcase_add_test(tc, test_complete_graph);
+    tcase_add_test(tc, test_estimate_capped);
     tcase_add_test(tc, test_errors);
     tcase_add_test(tc, test_allocation_failures);
     suite_add_tcase(s, tc);

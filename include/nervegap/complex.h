@@ -79,6 +79,18 @@ NG_API int ng_complex_estimate(const ng_csr *graph, int top_dim,
                                int n_filtrations, int threads,
                                ng_complex_size *out, ng_error *err);
 
+/* As ng_complex_estimate, but gives up once more than max_simplices
+ * simplices of dimension ≥ 1 have been counted: *over is then 1, out holds
+ * the counts found so far (lower bounds) and bytes_build = bytes_reduce =
+ * SIZE_MAX. Counting a dense graph's cliques takes as long as there are
+ * cliques (C(n, 5) for a complete graph and top_dim 4); the cap keeps a
+ * complex that cannot fit a budget from costing hours to refuse. */
+NG_API int ng_complex_estimate_capped(const ng_csr *graph, int top_dim,
+                                      int n_filtrations, int threads,
+                                      size_t max_simplices,
+                                      ng_complex_size *out, int *over,
+                                      ng_error *err);
+
 /* Enumerates the cliques, calls the value callback once per simplex of
  * dimension ≥ 1 and stores the monotone values. On success *out owns the
  * complex (free with ng_complex_free). On failure *out is NULL and the
