@@ -12,11 +12,23 @@
 # corpus (libFuzzer -merge=1 keeps only inputs that add coverage).
 # Only this build needs clang, libclang-rt-14-dev (libFuzzer) and
 # libomp-14-dev (OpenMP for clang); the default build and CI do not.
+# NG_FUZZ_NO_INSTALL=1 (the slow test suite): install nothing; exit 77
+# (meson's "skipped") when clang or libFuzzer is missing.
 set -euo pipefail
 top=$(cd "$(dirname "$0")/.." && pwd)
 cd "$top"
 . scripts/deps.sh
-ng_install_missing clang libclang-rt-14-dev libomp-14-dev
+fuzz_packages=(clang libclang-rt-14-dev libomp-14-dev)
+if [ "${NG_FUZZ_NO_INSTALL:-0}" = 1 ]; then
+    for p in "${fuzz_packages[@]}"; do
+        if ! dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed"; then
+            echo "fuzz.sh: $p is not installed; skipped (scripts/fuzz.sh installs it)"
+            exit 77
+        fi
+    done
+else
+    ng_install_missing "${fuzz_packages[@]}"
+fi
 
 seconds=${1:-60}
 shift || true
