@@ -215,6 +215,7 @@ typedef struct probe {
     size_t bytes;          /* graph + complex + reductions */
     size_t graph_bytes;    /* building the graph alone (also when over the
                               cap) */
+    int graph_over;        /* the graph stopped: more pairs than fit */
     int complex_over;      /* the count stopped: more simplices than fit */
 } probe;
 
@@ -234,21 +235,21 @@ static size_t graph_bytes(size_t directed_pairs, size_t n)
 static probe probe_at(const ng_space *s, double T, const ng_run_options *opt,
                       int n_filtrations, ng_csr *keep, ng_error *err)
 {
-    probe p = {NG_OK, 0, {{0}, 0, 0, 0}, 0, 0, 0};
+    probe p = {NG_OK, 0, {{0}, 0, 0, 0}, 0, 0, 0, 0};
     int team = opt->threads > 0 ? opt->threads : 1;
     size_t reductions = (size_t)(n_filtrations < team ? n_filtrations : team);
     /* pairs alone must leave room: each costs GRAPH_BUILD_PEAK bytes while
      * the graph is built */
     size_t cap = opt->budget_bytes / GRAPH_BUILD_PEAK;
     ng_csr g;
-    int over = 0;
     size_t pairs = 0;
-    p.status = graph_at(s, T, cap, opt->threads, &g, &over, &pairs, err);
+    p.status = graph_at(s, T, cap, opt->threads, &g, &p.graph_over, &pairs,
+                        err);
     if (p.status != NG_OK) return p;
     p.graph_bytes = pairs > SIZE_MAX / GRAPH_BUILD_PEAK
                         ? SIZE_MAX
                         : pairs * GRAPH_BUILD_PEAK;
-    if (over) {
+    if (p.graph_over) {
         ng_csr_free(&g);
         p.bytes = SIZE_MAX;
         return p;
@@ -483,7 +484,7 @@ static int choose_scale(const ng_space *s, const ng_run_options *opt, int L,
                                 "%s, the budget; --scale-limit %.6g would fit "
                                 "(or raise --budget or lower --max-degree)",
                                 T, p.size.total, have, fit);
-        if (p.bytes == SIZE_MAX) {
+        if (p.graph_over) {
             size_text(p.graph_bytes, need, sizeof need);
             return ng_error_set(err, NG_ERR_BUDGET,
                                 "--scale-limit %.17g: building the "
