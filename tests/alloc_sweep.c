@@ -18,8 +18,9 @@
  * lower bound of the allocation sites the path covers; --verbose lists
  * them.
  *
- *   alloc_sweep [--stride S] [--only PATH] [--verbose]
+ *   alloc_sweep [--stride S] [--only PATH] [--verbose] [--fixtures DIR]
  *                                           (default stride 1: every N)
+ * With --fixtures (tests/fixtures), `radii` also reads .npy and HDF5.
  *
  * With a stride S > 1, N = 1, 1 + S, 1 + 2S, ... plus the last 16 of the
  * path (where the results file is written): the default suite's sampling;
@@ -293,7 +294,7 @@ static int sweep(sweep_path *p, long stride)
 int main(int argc, char **argv)
 {
     long stride = 1;
-    const char *only = NULL;
+    const char *only = NULL, *fixtures = NULL;
     for (int i = 1; i < argc; i++) {
         if (strcmp(argv[i], "--stride") == 0 && i + 1 < argc)
             stride = atol(argv[++i]);
@@ -301,9 +302,11 @@ int main(int argc, char **argv)
             only = argv[++i];
         else if (strcmp(argv[i], "--verbose") == 0)
             verbose = 1;
+        else if (strcmp(argv[i], "--fixtures") == 0 && i + 1 < argc)
+            fixtures = argv[++i];
         else {
             fprintf(stderr, "usage: alloc_sweep [--stride S] [--only PATH] "
-                            "[--verbose]\n");
+                            "[--verbose] [--fixtures DIR]\n");
             return 2;
         }
     }
@@ -360,10 +363,25 @@ int main(int argc, char **argv)
         {"distance", NULL,
          {A("nervegap"), A("distance"), a_h5, b_h5, NULL}},
     };
+    char npy[512], h5[512];
+    snprintf(npy, sizeof npy, "%s/good/same_f4.npy", fixtures ? fixtures : "");
+    snprintf(h5, sizeof h5, "%s/good/same.h5:/group/points", fixtures ? fixtures : "");
+    sweep_path readers[] = {
+        {"radii npy dtm", NULL,
+         {A("nervegap"), A("radii"), A(npy), A("--radius"), A("dtm:4"),
+          A("--threads"), A("1"), NULL}},
+        {"radii h5 knn", NULL,
+         {A("nervegap"), A("radii"), A(h5), A("--radius"), A("knn:2"),
+          A("--threads"), A("1"), NULL}},
+    };
     int bad = 0;
     for (size_t i = 0; i < sizeof paths / sizeof paths[0]; i++) {
         if (only && !strstr(paths[i].name, only)) continue;
         bad |= sweep(&paths[i], stride);
+    }
+    for (size_t i = 0; fixtures && i < sizeof readers / sizeof readers[0]; i++) {
+        if (only && !strstr(readers[i].name, only)) continue;
+        bad |= sweep(&readers[i], stride);
     }
     unlink(a_h5);
     unlink(b_h5);

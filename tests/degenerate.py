@@ -116,6 +116,7 @@ def run(name, path, *flags, max_degree=1, expect_ok=True, distances=False):
         expect(f"{name}: no file after a failed run", not os.path.exists(out))
         expect(f"{name}: runs", not expect_ok, err)
         return None
+    expect(f"{name}: refused", expect_ok, "exit 0 where a clear error was expected")
     return check_file(name, out, max_degree)
 
 
@@ -139,6 +140,7 @@ def values(name, path, simplices, *flags, expect_ok=True):
         clear_error(name + " values", "values", rc, err)
         expect(f"{name}: values runs", not expect_ok, err)
         return None
+    expect(f"{name}: values refused", expect_ok, "exit 0 where a clear error was expected")
     rows = out.strip().split("\n")[1:]
     vals = {}
     for v, row in zip(lst, rows):
