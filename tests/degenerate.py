@@ -101,6 +101,20 @@ def check_file(name, out, max_degree):
         for k in range(max_degree + 1):
             for g in ("cech", "rips"):
                 expect(f"{name}: {g}/dim{k} present", f"{g}/dim{k}" in found)
+        # Euler–Poincaré on every sublevel set of the grid (classical): the
+        # (D+1)-skeleton has beta_{D+1} = (-1)^(D+1) (chi - sum_{k<=D}
+        # (-1)^k beta_k), which must lie in [0, #(D+1)-simplices]. It fails
+        # when a sublevel set is not a complex (a coface before a face) or
+        # the Betti numbers disagree with the simplex counts.
+        for g in ("cech", "rips"):
+            betti = f[f"grid/betti_{g}"][()]
+            count = f[f"grid/simplices_{g}"][()]
+            D = betti.shape[1] - 1
+            signs = (-1) ** np.arange(D + 2)
+            top = (-1) ** (D + 1) * (count @ signs - betti @ signs[:D + 1])
+            bad = np.nonzero((top < 0) | (top > count[:, D + 1]))[0]
+            expect(f"{name}: {g} grid Euler–Poincaré", len(bad) == 0,
+                   (bad[:3], top[bad[:3]]))
     return found
 
 
