@@ -1,4 +1,9 @@
-/* error.c — the ng_error convention of common.h. */
+/* error.c — the ng_error convention of common.h.
+ *
+ * Invariant: a message is one line. Messages quote input (a file name, a
+ * dataset path, a token, a .npy header key) and input may hold any byte,
+ * so control characters other than tab are replaced by '?' after
+ * formatting: a message never spans lines nor moves the terminal cursor. */
 #include "nervegap/common.h"
 
 #include <stdarg.h>
@@ -12,6 +17,8 @@ int ng_error_set(ng_error *err, int code, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(err->message, sizeof err->message, fmt, ap);
     va_end(ap);
+    for (char *c = err->message; *c; c++)
+        if (((unsigned char)*c < 0x20 && *c != '\t') || *c == 0x7f) *c = '?';
     return code;
 }
 

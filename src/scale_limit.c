@@ -40,7 +40,9 @@ typedef struct search {
     const ng_run_options *opt;
     int L;                /* filtrations */
     size_t count_cap;     /* more simplices than this never fit */
+    int count_by_budget;  /* count_cap is the simplex budget (not memory) */
     size_t pair_cap;      /* more directed pairs than this never fit */
+    int pairs_by_budget;  /* pair_cap comes from the simplex budget */
     ng_csr upper;         /* complete graph at upper_scale, or offset NULL */
     double upper_scale;
 } search;
@@ -49,11 +51,19 @@ typedef struct probe {
     int status;            /* NG_OK */
     int fits;
     int over_count;        /* more simplices than the simplex budget */
+    int graph_over;        /* the graph stopped at the cap of pairs */
     ng_complex_size size;  /* partial when size.over */
-    size_t bytes;          /* graph + complex + reductions (a lower bound
-                              when size.over; SIZE_MAX: the graph alone
-                              exceeds the memory budget) */
+    size_t bytes;          /* graph + complex + reductions, or the graph's
+                              construction peak if larger (a lower bound
+                              when size.over) */
+    size_t graph_bytes;    /* construction peak of the graph, from all its
+                              pairs (counted past the cap too) */
 } probe;
+
+/* Peak bytes per directed pair while a graph is built: the k-d tree query
+ * collects the pairs as 16-byte entries in lists grown by doubling (up to
+ * 32 bytes a pair), then copies them into the graph (12 bytes). */
+#define GRAPH_BUILD_PEAK 44
 
 static void report(const ng_run_options *opt, double f)
 {
@@ -134,9 +144,10 @@ static int graph_by_rows(const ng_space *s, const ng_csr *from, graph_ctx *g,
 
 /* Builds the graph of pairs with edge value ≤ T, keeping at most
  * se->pair_cap directed pairs; *over tells whether the cap was hit (the
- * graph is then incomplete and freed). */
+ * graph is then incomplete and freed), *pairs how many directed pairs there
+ * are (counted on past the cap). */
 static int graph_at(search *se, double T, ng_csr *out, int *over,
-                    ng_error *err)
+                    size_t *pairs, ng_error *err)
 {
     const ng_space *s = se->space;
     graph_ctx g = {s, T, se->pair_cap, 0, 0};
@@ -164,6 +175,7 @@ static int graph_at(search *se, double T, ng_csr *out, int *over,
                                      out, err);
         ng_free(radius);
     }
+    *pairs = g.kept;
     if (status == NG_OK && g.over) {
         ng_csr_free(out);
         *over = 1;
@@ -185,19 +197,22 @@ static size_t graph_bytes(size_t directed_pairs, size_t n)
 static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
 {
     const ng_run_options *opt = se->opt;
-    probe p = {NG_OK, 0, 0, {{0}, 0, 0, 0, 0}, 0};
+    probe p;
+    memset(&p, 0, sizeof p);
     int team = opt->threads > 0 ? opt->threads : 1;
     size_t reductions = (size_t)(se->L < team ? se->L : team);
     ng_csr g;
-    int over = 0;
-    p.status = graph_at(se, T, &g, &over, err);
+    size_t pairs = 0;
+    p.status = graph_at(se, T, &g, &p.graph_over, &pairs, err);
     if (p.status != NG_OK) return p;
-    if (over) {
+    p.graph_bytes = pairs > SIZE_MAX / GRAPH_BUILD_PEAK
+                        ? SIZE_MAX
+                        : pairs * GRAPH_BUILD_PEAK;
+    if (p.graph_over) {
         /* more edges than the simplex budget, or than the memory holds */
-        p.over_count = opt->max_simplices > 0 &&
-                       se->pair_cap / 2 >= opt->max_simplices;
+        p.over_count = se->pairs_by_budget;
         p.size.over = 1;
-        p.bytes = p.over_count ? 0 : SIZE_MAX;
+        p.bytes = p.graph_bytes;
         return p;
     }
     /* counting on to twice the budget gives the refinement an exact count
@@ -216,10 +231,10 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
         p.bytes = SIZE_MAX;
     else
         p.bytes += reductions * p.size.bytes_reduce;
-    p.over_count = opt->max_simplices > 0 &&
-                   (p.size.over || p.size.total > opt->max_simplices);
-    p.fits = !p.size.over && p.size.total <= se->count_cap &&
-             !p.over_count && p.bytes <= opt->budget_bytes;
+    if (p.graph_bytes > p.bytes) p.bytes = p.graph_bytes;
+    int over_cap = p.size.over || p.size.total > se->count_cap;
+    p.over_count = over_cap && se->count_by_budget;
+    p.fits = !over_cap && p.bytes <= opt->budget_bytes;
     if (p.fits && keep) {
         *keep = g;
     } else if (!p.fits &&
@@ -448,7 +463,8 @@ static void size_text(size_t bytes, char *buf, size_t size)
 }
 
 /* The error for a given T that does not fit (probe p), naming the budget
- * it exceeds and a T that fits. */
+ * it exceeds (the simplex budget, or memory) with the size it would need,
+ * and a T that fits. */
 static int refuse_scale(double T, const probe *p, const ng_run_options *opt,
                         double fit, ng_error *err)
 {
@@ -462,24 +478,25 @@ static int refuse_scale(double T, const probe *p, const ng_run_options *opt,
                             "--scale-limit %.6g would fit (or raise "
                             "--max-simplices or lower --max-degree)",
                             T, opt->max_simplices, fit);
-    if (p->bytes == SIZE_MAX)
+    if (p->graph_over)
         return ng_error_set(err, NG_ERR_BUDGET,
-                            "--scale-limit %.17g: the neighbour graph alone "
-                            "exceeds the memory budget of %s; --scale-limit "
-                            "%.6g would fit (or raise --budget)",
-                            T, have, fit);
+                            "--scale-limit %.17g: building the neighbour "
+                            "graph alone would need %s, more than the "
+                            "budget of %s; --scale-limit %.6g would fit (or "
+                            "raise --budget)",
+                            T, need, have, fit);
     if (p->size.over)
         return ng_error_set(err, NG_ERR_BUDGET,
                             "--scale-limit %.17g: the complex would have "
-                            "more than %zu simplices and need more than the "
-                            "memory budget of %s; --scale-limit %.6g would "
-                            "fit (or raise --budget or lower --max-degree)",
+                            "more than %zu simplices and need more than %s, "
+                            "the budget; --scale-limit %.6g would fit (or "
+                            "raise --budget or lower --max-degree)",
                             T, p->size.total, have, fit);
     return ng_error_set(err, NG_ERR_BUDGET,
                         "--scale-limit %.17g: the complex would have %zu "
-                        "simplices and need %s, more than the memory "
-                        "budget of %s; --scale-limit %.6g would fit (or "
-                        "raise --budget or lower --max-degree)",
+                        "simplices and need %s, more than the budget of %s; "
+                        "--scale-limit %.6g would fit (or raise --budget or "
+                        "lower --max-degree)",
                         T, p->size.total, need, have, fit);
 }
 
@@ -542,16 +559,25 @@ int ng_scale_limit_choose(const ng_space *s, const ng_run_options *opt, int L,
     memset(graph, 0, sizeof *graph);
     out->full_scale = NAN;
     /* a simplex costs at least its top vertex and one value per filtration;
-     * a directed pair at least 16 bytes (12 in the graph, 4 in the
-     * complex's copy), and two directed pairs are one edge, a simplex */
+     * a directed pair GRAPH_BUILD_PEAK bytes while the graph is built, and
+     * two directed pairs are one edge, a simplex */
     size_t per = sizeof(ng_index) + (size_t)L * sizeof(double);
-    search se = {s, opt, L, opt->budget_bytes / per, opt->budget_bytes / 16,
-                 {0}, 0.0};
-    if (opt->max_simplices > 0 && opt->max_simplices < se.count_cap)
+    search se;
+    memset(&se, 0, sizeof se);
+    se.space = s;
+    se.opt = opt;
+    se.L = L;
+    se.count_cap = opt->budget_bytes / per;
+    se.pair_cap = opt->budget_bytes / GRAPH_BUILD_PEAK;
+    if (opt->max_simplices > 0 && opt->max_simplices <= se.count_cap) {
         se.count_cap = opt->max_simplices;
+        se.count_by_budget = 1;
+    }
     if (se.count_cap == 0) se.count_cap = 1;
-    if (se.count_cap <= SIZE_MAX / 2 && 2 * se.count_cap < se.pair_cap)
+    if (se.count_cap <= SIZE_MAX / 2 && 2 * se.count_cap < se.pair_cap) {
         se.pair_cap = 2 * se.count_cap;
+        se.pairs_by_budget = se.count_by_budget;
+    }
     report(opt, 0.0);
     int status = choose(&se, out, graph, err);
     ng_csr_free(&se.upper);

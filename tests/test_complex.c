@@ -490,6 +490,41 @@ START_TEST(test_asymmetric_anywhere)
 }
 END_TEST
 
+/* The capped count on a complete graph on 60 vertices, which has
+ * C(60, k+1) k-simplices (binomial coefficients: elementary); up to
+ * dimension 4 that is 1770 + 34220 + 487635 + 5461512 simplices of
+ * dimension ≥ 1. A cap at or above the total changes nothing; a cap below
+ * it stops the count early, past the cap. */
+START_TEST(test_estimate_cap_complete)
+{
+    rng_state = 8;
+    unsigned char *adj;
+    ng_csr g;
+    random_graph(60, 1.0, &adj, &g);
+    ng_complex_size full, capped;
+    ng_error err;
+    ng_error_clear(&err);
+    size_t total = 60 + 1770 + 34220 + 487635 + 5461512;
+    ck_assert_int_eq(ng_complex_estimate(&g, 4, 1, total, 2, &full, &err),
+                     NG_OK);
+    ck_assert(!full.over);
+    ck_assert_uint_eq(full.count[1], 1770);
+    ck_assert_uint_eq(full.count[2], 34220);
+    ck_assert_uint_eq(full.count[3], 487635);
+    ck_assert_uint_eq(full.count[4], 5461512);
+    ck_assert_uint_eq(full.total, total);
+    for (int threads = 1; threads <= 2; threads++) {
+        ck_assert_int_eq(ng_complex_estimate(&g, 4, 1, 10000, threads,
+                                             &capped, &err), NG_OK);
+        ck_assert(capped.over);
+        ck_assert_uint_gt(capped.total, 10000);
+        ck_assert_uint_lt(capped.total, full.total / 100);
+    }
+    free(adj);
+    csr_release(&g);
+}
+END_TEST
+
 /* The capped count: at a cap of the exact total or more it is exact and not
  * over; below it, it reports over with a partial total above the cap. */
 START_TEST(test_estimate_cap)
@@ -568,6 +603,7 @@ static Suite *complex_suite(void)
     tcase_add_test(tc, test_errors);
     tcase_add_loop_test(tc, test_asymmetric_anywhere, 0, 20);
     tcase_add_loop_test(tc, test_estimate_cap, 0, 6);
+    tcase_add_test(tc, test_estimate_cap_complete);
     tcase_add_test(tc, test_allocation_failures);
     suite_add_tcase(s, tc);
     return s;

@@ -19,6 +19,17 @@ START_TEST(first_error_wins)
 }
 END_TEST
 
+/* Input quoted in a message may hold any byte: the message stays one line
+ * (the fuzzers found a .npy header key and a dataset path with '\n'). */
+START_TEST(message_is_one_line)
+{
+    ng_error err;
+    ng_error_clear(&err);
+    ng_error_set(&err, NG_ERR_INPUT, "key '%s'", "a\nb\rc\td\x1b[2J\x7f");
+    ck_assert_str_eq(err.message, "key 'a?b?c\td?[2J?'");
+}
+END_TEST
+
 START_TEST(exit_codes)
 {
     ck_assert_int_eq(ng_error_exit_code(NG_OK), 0);
@@ -66,6 +77,7 @@ int main(void)
     Suite *s = suite_create("error");
     TCase *tc = tcase_create("core");
     tcase_add_test(tc, first_error_wins);
+    tcase_add_test(tc, message_is_one_line);
     tcase_add_test(tc, exit_codes);
     tcase_add_test(tc, allocation_overflow_is_refused);
     tcase_add_test(tc, fault_injection_counts_and_fails);

@@ -1,0 +1,47 @@
+/* fuzz_common.h — what the fuzz targets share.
+ *
+ * Every target defines LLVMFuzzerTestOneInput(data, size). The readers it
+ * drives open files by name, so the input is first written to a file in a
+ * private temporary directory (made once per process, removed at exit).
+ * The same target source is linked either with libFuzzer (clang,
+ * -fsanitize=fuzzer) or with tests/fuzz/replay.c (any compiler), which
+ * feeds it the committed corpus and every crash input found so far.
+ *
+ * A target aborts (which both drivers report) when the library breaks a
+ * promise that the fuzzer can observe: a status that is neither NG_OK nor
+ * an NG_ERR_* code, an error without a message, a cloud that violates the
+ * invariants of cloud.h.
+ */
+#ifndef NERVEGAP_FUZZ_COMMON_H
+#define NERVEGAP_FUZZ_COMMON_H
+
+#include "nervegap/common.h"
+
+#include <stddef.h>
+#include <stdint.h>
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
+
+/* Writes data to a file called name (e.g. "in.npy") in the target's
+ * temporary directory and returns its path (valid until the next call);
+ * aborts when the file cannot be written. */
+const char *fuzz_write_file(const char *name, const uint8_t *data,
+                            size_t size);
+
+/* The temporary directory itself (made on the first call). */
+const char *fuzz_dir(void);
+
+/* Aborts with a message when status and err do not agree with the error
+ * convention of common.h. */
+void fuzz_check_status(int status, const ng_error *err);
+
+/* Checks a cloud handed out by a reader against the invariants of
+ * cloud.h (as_distances: read by ng_cloud_read_distances); aborts when one
+ * is broken. */
+struct ng_cloud;
+void fuzz_check_cloud(const struct ng_cloud *c, int as_distances);
+
+/* Aborts with a message (a broken promise the fuzzer found). */
+void fuzz_fail(const char *what);
+
+#endif
