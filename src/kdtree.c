@@ -732,8 +732,10 @@ static ALWAYS_INLINE int within_query_in(ng_metric metric, const search *s,
             double raw = raw_distance(metric, x, s->coords + j * dim, dim);
             if (raw > bound || j == self) continue;
             double d = finish(metric, raw);
-            if (d <= radius && (filter == NULL || filter(self, j, d, ctx)))
-                if (!list_push(l, (ng_index)j, d)) return 0;
+            if (d > radius) continue;
+            int keep = filter == NULL ? 1 : filter(self, j, d, ctx);
+            if (keep < 0) return -1;
+            if (keep && !list_push(l, (ng_index)j, d)) return 0;
         }
         return 1;
     }
@@ -756,8 +758,10 @@ static ALWAYS_INLINE int within_query_in(ng_metric metric, const search *s,
             ng_index j = t->index[p];
             if (j == self) continue;
             double d = finish(metric, raw);
-            if (d <= radius && (filter == NULL || filter(self, j, d, ctx)))
-                if (!list_push(l, j, d)) return 0;
+            if (d > radius) continue;
+            int keep = filter == NULL ? 1 : filter(self, j, d, ctx);
+            if (keep < 0) return -1;
+            if (keep && !list_push(l, j, d)) return 0;
         }
     }
     return 1;
@@ -795,7 +799,7 @@ static int within_run(const search *s, const double *radius,
 {
     const size_t n = s->n;
     const size_t n_blocks = (n + WITHIN_BLOCK - 1) / WITHIN_BLOCK;
-    int failed = 0;
+    int failed = 0, stopped = 0; /* out of memory; the filter said stop */
     ng_csr g = {n, NULL, NULL, NULL};
     nbr_list *blocks = ng_calloc(n_blocks, sizeof *blocks);
     g.offset = ng_calloc(n + 1, sizeof *g.offset);
@@ -804,16 +808,25 @@ static int within_run(const search *s, const double *radius,
 #pragma omp parallel for num_threads(team_size(threads)) \
     schedule(dynamic, 1) if (n_blocks > 1)
     for (size_t b = 0; b < n_blocks; b++) {
-        int stop;
+        int stop, halt;
 #pragma omp atomic read
         stop = failed;
-        if (stop) continue;
+#pragma omp atomic read
+        halt = stopped;
+        if (stop || halt) continue;
         size_t q1 = (b + 1) * WITHIN_BLOCK < n ? (b + 1) * WITHIN_BLOCK : n;
         for (size_t pos = b * WITHIN_BLOCK; pos < q1; pos++) {
             size_t self = s->index ? s->index[pos] : pos;
             size_t start = blocks[b].len;
-            if (!within_query(s, pos, self, radius[self], filter, ctx,
-                              &blocks[b])) {
+            int got = within_query(s, pos, self, radius[self], filter, ctx,
+                                   &blocks[b]);
+            if (got < 0) { /* the filter stopped the search */
+#pragma omp atomic write
+                stopped = 1;
+                blocks[b].len = start;
+                break;
+            }
+            if (got == 0) {
 #pragma omp atomic write
                 failed = 1;
                 break;

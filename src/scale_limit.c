@@ -24,6 +24,7 @@
 #include "scale_limit.h"
 
 #include "alloc.h"
+#include "rips_graph.h"
 #include "nervegap/distance.h"
 
 #include <math.h>
@@ -60,10 +61,13 @@ typedef struct probe {
                               pairs (counted past the cap too) */
 } probe;
 
-/* Peak bytes per directed pair while a graph is built: the k-d tree query
- * collects the pairs as 16-byte entries in lists grown by doubling (up to
- * 32 bytes a pair), then copies them into the graph (12 bytes). */
-#define GRAPH_BUILD_PEAK 44
+/* Peak bytes per directed pair while a graph is built (rips_graph.c): the
+ * k-d tree query finds each edge once, as a 16-byte entry in lists grown by
+ * doubling (up to 32 bytes an edge, 16 a directed pair), copied into a
+ * one-sided graph (6 bytes a directed pair); putting the two sides
+ * together holds that graph, the transposed side and the result (6 + 6 +
+ * 12 bytes a directed pair). */
+#define GRAPH_BUILD_PEAK 24
 
 static void report(const ng_run_options *opt, double f)
 {
@@ -72,114 +76,20 @@ static void report(const ng_run_options *opt, double f)
 
 /* ---- the neighbour graph at a scale ---- */
 
-typedef struct graph_ctx {
-    const ng_space *space;
-    double scale;      /* T */
-    size_t cap;        /* keep at most this many directed pairs */
-    size_t kept;       /* directed pairs kept so far (atomic) */
-    int over;          /* set when the cap was reached */
-} graph_ctx;
-
-static int keep_edge(size_t i, size_t j, double d, void *opaque)
-{
-    graph_ctx *g = opaque;
-    const double *rho = g->space->rho;
-    if (!(ng_rips_edge_value(g->space->law, rho[i], rho[j], d) <= g->scale))
-        return 0;
-    size_t kept;
-#pragma omp atomic capture
-    kept = g->kept++;
-    if (kept >= g->cap) {
-#pragma omp atomic write
-        g->over = 1;
-        return 0;
-    }
-    return 1;
-}
-
-static int graph_nomem(ng_csr *out, ng_error *err)
-{
-    ng_csr_free(out);
-    return ng_error_set(err, NG_ERR_NOMEM,
-                        "out of memory for the neighbour graph");
-}
-
-/* The pairs of a distance matrix (or of the graph from, when not NULL)
- * that g keeps, in two passes: count, then fill. */
-static int graph_by_rows(const ng_space *s, const ng_csr *from, graph_ctx *g,
-                         ng_csr *out, ng_error *err)
-{
-    size_t n = s->n;
-    out->n = n;
-    out->offset = ng_calloc(n + 1, sizeof *out->offset);
-    if (out->offset == NULL) return graph_nomem(out, err);
-    for (int pass = 0; pass < 2; pass++) {
-        size_t pos = 0;
-        g->kept = 0;
-        for (size_t i = 0; i < n; i++) {
-            size_t e0 = from ? from->offset[i] : 0;
-            size_t e1 = from ? from->offset[i + 1] : n;
-            for (size_t e = e0; e < e1; e++) {
-                size_t j = from ? from->nbr[e] : e;
-                double d = from ? from->dist[e] : s->dist[i * n + j];
-                if (j == i || !keep_edge(i, j, d, g)) continue;
-                if (pass == 1) {
-                    out->nbr[pos] = (ng_index)j;
-                    out->dist[pos] = d;
-                }
-                pos++;
-            }
-            if (pass == 0) out->offset[i + 1] = pos;
-        }
-        if (g->over) return NG_OK;
-        if (pass == 0) {
-            out->nbr = ng_malloc(pos, sizeof *out->nbr);
-            out->dist = ng_malloc(pos, sizeof *out->dist);
-            if (out->nbr == NULL || out->dist == NULL)
-                return graph_nomem(out, err);
-        }
-    }
-    return NG_OK;
-}
-
-/* Builds the graph of pairs with edge value ≤ T, keeping at most
- * se->pair_cap directed pairs; *over tells whether the cap was hit (the
- * graph is then incomplete and freed), *pairs how many directed pairs there
- * are (counted on past the cap). */
+/* The graph of pairs with edge value ≤ T, keeping at most se->pair_cap
+ * directed pairs: filtered from the upper graph when T is below its scale.
+ * *over tells whether the cap was passed (the graph is then empty), *pairs
+ * how many directed pairs were found (a lower bound when over). */
 static int graph_at(search *se, double T, ng_csr *out, int *over,
                     size_t *pairs, ng_error *err)
 {
-    const ng_space *s = se->space;
-    graph_ctx g = {s, T, se->pair_cap, 0, 0};
-    int status;
-    memset(out, 0, sizeof *out);
-    *over = 0;
-    if (se->upper.offset != NULL && T <= se->upper_scale)
-        status = graph_by_rows(s, &se->upper, &g, out, err);
-    else if (s->metric == NG_METRIC_GIVEN)
-        status = graph_by_rows(s, NULL, &g, out, err);
-    else {
-        double *radius = ng_malloc(s->n, sizeof *radius);
-        if (radius == NULL) return graph_nomem(out, err);
-        double r_max = 0.0;
-        for (size_t i = 0; i < s->n; i++) {
-            radius[i] = ng_law_radius(s->law, s->rho[i], T);
-            if (radius[i] > r_max) r_max = radius[i];
-        }
-        /* a kept pair has d ≤ r_i(T) + r_j(T) ≤ r_i(T) + r_max(T); the
-         * slack covers rounding, the edge value decides exactly */
-        for (size_t i = 0; i < s->n; i++)
-            radius[i] = (radius[i] + r_max) * (1.0 + 1e-12) + 1e-300;
-        status = ng_neighbors_within(s->coords, s->n, s->dim, s->metric,
-                                     radius, keep_edge, &g, se->opt->threads,
-                                     out, err);
-        ng_free(radius);
-    }
-    *pairs = g.kept;
-    if (status == NG_OK && g.over) {
-        ng_csr_free(out);
-        *over = 1;
-    }
+    const ng_csr *from = se->upper.offset != NULL && T <= se->upper_scale
+                             ? &se->upper
+                             : NULL;
+    size_t edges = 0, cap = se->pair_cap / 2 > 0 ? se->pair_cap / 2 : 1;
+    int status = ng_rips_graph(se->space, T, from, cap, se->opt->threads,
+                               out, over, &edges, err);
+    *pairs = 2 * edges;
     return status;
 }
 
@@ -481,10 +391,11 @@ static int refuse_scale(double T, const probe *p, const ng_run_options *opt,
     if (p->graph_over)
         return ng_error_set(err, NG_ERR_BUDGET,
                             "--scale-limit %.17g: building the neighbour "
-                            "graph alone would need %s, more than the "
-                            "budget of %s; --scale-limit %.6g would fit (or "
-                            "raise --budget)",
-                            T, need, have, fit);
+                            "graph alone needs more than the budget of %s "
+                            "(it has more than %zu edges); --scale-limit "
+                            "%.6g would fit (or raise --budget)",
+                            T, have, p->graph_bytes / GRAPH_BUILD_PEAK / 2,
+                            fit);
     if (p->size.over)
         return ng_error_set(err, NG_ERR_BUDGET,
                             "--scale-limit %.17g: the complex would have "

@@ -2,11 +2,9 @@
  * (unfilled.h).
  *
  * How it works: the edges with Rips edge value ≤ t are the pairs whose
- * balls meet at t; a pair at distance d can only be one when
- * d ≤ r_i(t) + max_j r_j(t), which bounds the k-d tree search, and the
- * exact edge value filters the pairs found. Every triangle of that graph
- * (i < j < k, k a common neighbour of i and j found by merging their
- * sorted lists) is a candidate; ng_simplex_values decides. Threads split
+ * balls meet at t (the neighbour graph of rips_graph.h). Every triangle of
+ * that graph (i < j < k, k a common neighbour of i and j found by merging
+ * their sorted lists) is a candidate; ng_simplex_values decides. Threads split
  * the work by first vertex i; each collects its own triangles and the
  * union is sorted, so the result does not depend on the thread count.
  */
@@ -15,80 +13,12 @@
 #include "alloc.h"
 #include "nervegap/kdtree.h"
 #include "nervegap/law.h"
+#include "rips_graph.h"
 
 #include <math.h>
 #include <omp.h>
 #include <stdlib.h>
 #include <string.h>
-
-typedef struct edge_ctx {
-    const ng_space *s;
-    double t;
-} edge_ctx;
-
-static int edge_within(size_t i, size_t j, double d, void *opaque)
-{
-    const edge_ctx *c = opaque;
-    return ng_rips_edge_value(c->s->law, c->s->rho[i], c->s->rho[j], d) <=
-           c->t;
-}
-
-/* The graph of the edges with Rips edge value ≤ t, from the matrix of a
- * given metric (O(n²), as the matrix itself). */
-static int matrix_graph(const ng_space *s, double t, ng_csr *g, ng_error *err)
-{
-    size_t n = s->n, m = 0;
-    for (size_t i = 0; i < n; i++)
-        for (size_t j = 0; j < n; j++)
-            m += j != i && ng_rips_edge_value(s->law, s->rho[i], s->rho[j],
-                                              s->dist[i * n + j]) <= t;
-    g->n = n;
-    g->offset = ng_malloc(n + 1, sizeof *g->offset);
-    g->nbr = ng_malloc(m, sizeof *g->nbr);
-    g->dist = ng_malloc(m, sizeof *g->dist);
-    if (!g->offset || !g->nbr || !g->dist) {
-        ng_csr_free(g);
-        return ng_error_set(err, NG_ERR_NOMEM,
-                            "unfilled triangles: out of memory for %zu edges",
-                            m / 2);
-    }
-    size_t e = 0;
-    for (size_t i = 0; i < n; i++) {
-        g->offset[i] = e;
-        for (size_t j = 0; j < n; j++) {
-            double d = s->dist[i * n + j];
-            if (j != i &&
-                ng_rips_edge_value(s->law, s->rho[i], s->rho[j], d) <= t) {
-                g->nbr[e] = (ng_index)j;
-                g->dist[e++] = d;
-            }
-        }
-    }
-    g->offset[n] = e;
-    return NG_OK;
-}
-
-static int coordinate_graph(const ng_space *s, double t, int threads,
-                            ng_csr *g, ng_error *err)
-{
-    double rmax = 0.0;
-    for (size_t i = 0; i < s->n; i++)
-        rmax = fmax(rmax, ng_law_radius(s->law, s->rho[i], t));
-    double *radius = ng_malloc(s->n, sizeof *radius);
-    if (radius == NULL)
-        return ng_error_set(err, NG_ERR_NOMEM,
-                            "unfilled triangles: out of memory");
-    /* slack for rounding: the exact edge value decides */
-    for (size_t i = 0; i < s->n; i++)
-        radius[i] = (ng_law_radius(s->law, s->rho[i], t) + rmax) *
-                        (1.0 + 1e-9) + 1e-300;
-    edge_ctx ctx = {s, t};
-    int status = ng_neighbors_within(s->coords, s->n, s->dim, s->metric,
-                                     radius, edge_within, &ctx, threads, g,
-                                     err);
-    ng_free(radius);
-    return status;
-}
 
 static int triangle_cmp(const void *pa, const void *pb)
 {
@@ -173,9 +103,8 @@ int ng_unfilled_compute(const ng_space *s, double t, size_t max_candidates,
     ng_csr g = {0};
     found *per = NULL;
     int team = threads > 0 ? threads : omp_get_max_threads();
-    int status = s->metric == NG_METRIC_GIVEN
-                     ? matrix_graph(s, t, &g, err)
-                     : coordinate_graph(s, t, threads, &g, err);
+    int over = 0;
+    int status = ng_rips_graph(s, t, NULL, 0, threads, &g, &over, NULL, err);
     if (status != NG_OK) return status;
     size_t n = s->n;
     out->scale = t;

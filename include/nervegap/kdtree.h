@@ -51,9 +51,11 @@ NG_API int ng_knn_all(const double *pts, size_t n, size_t dim,
                       ng_index *idx, ng_error *err);
 
 /* An exact filter applied to every candidate pair (i, j), i != j, with
- * d = d(x_i, x_j) ≤ radius[i]: nonzero keeps it. It is called from several
- * threads at once (ctx must be safe to read concurrently) and exactly once
- * per candidate pair and direction. */
+ * d = d(x_i, x_j) ≤ radius[i]: 1 keeps it, 0 drops it, and a negative
+ * value stops the whole search (the graph then holds what was kept before,
+ * in no particular subset: only good for freeing). It is called from
+ * several threads at once (ctx must be safe to use concurrently) and at
+ * most once per candidate pair and direction. */
 typedef int (*ng_pair_filter)(size_t i, size_t j, double d, void *ctx);
 
 /* A graph in compressed sparse rows: the neighbours of i are
