@@ -11,13 +11,11 @@
  * graph, hence every clique set, only grows). From a start scale (the
  * median Rips value of the edge to each point's nearest neighbour) the
  * search doubles or halves until it brackets the budget, then narrows the
- * bracket [fits, does not fit] to a relative width of 1e-4: each probe is
- * where the count would reach the budget if it were a power of the scale
- * between the two ends (the count of a complex grows about like a power of
- * the scale), or the midpoint when that cannot be computed or keeps moving
- * one end — a safeguarded secant, a few probes where bisection needs 14. A
- * probe builds the graph at t and counts its cliques, stopping at twice the
- * budget (ng_complex_estimate's max_total). The smallest complete graph
+ * bracket [fits, does not fit] to a relative width of 1e-4 by regula falsi
+ * on the logarithms (the count of a complex grows about like a power of
+ * the scale) with the Illinois rule: a few probes where bisection needs
+ * 14. A probe builds the graph at t and counts its cliques, stopping at
+ * twice the budget (ng_complex_estimate's max_total). The smallest complete graph
  * that did not fit is kept: every later probe lies below its scale, so its
  * graph is that one filtered by edge value — no k-d tree search, no sort.
  */
@@ -35,6 +33,7 @@
 
 #define REFINE_TOLERANCE 1e-4 /* relative width of the final bracket */
 #define REFINE_STEPS 40        /* bisection alone needs 14 from [t, 2t] */
+#define REFINE_SECANT_STEPS 16 /* then bisection, should the secant stall */
 
 typedef struct search {
     const ng_space *space;
@@ -313,23 +312,29 @@ static int bracket_fit(search *se, double cap, end *lo, end *hi,
     }
 }
 
-/* The next scale to probe in (lo, hi): where the simplex count, taken as a
- * power of the scale between the two ends (a line in log–log), reaches the
- * budget; the midpoint when a count is unknown, or when the last two probes
- * moved the same end (interpolation alone can creep up on one side). */
-static double next_probe(const search *se, end lo, end hi, int same_side)
+/* The refinement works on x = log t and f(x) = log(count / budget), about
+ * a straight line for a count that grows like a power of the scale: it
+ * probes where the line through the two ends crosses zero (regula falsi),
+ * halving the f of an end that stays put twice in a row (the Illinois
+ * rule, so that both ends keep moving), and never closer to an end than
+ * half the tolerance, and bisecting after REFINE_SECANT_STEPS probes. An
+ * end whose count is unknown (the count stopped at twice the budget, or at
+ * 0 for the lower end) takes the value it is known to pass: f ≥ log 2
+ * above, and the midpoint is used when nothing is known below. */
+typedef struct side {
+    double x, f;
+} side;
+
+static side side_of(const search *se, end e, int above)
 {
-    double mid = 0.5 * (lo.t + hi.t), w = hi.t - lo.t;
-    if (same_side >= 2 || lo.count == 0 || hi.count <= lo.count ||
-        !(lo.t > 0.0) || !isfinite(hi.t))
-        return mid;
-    double f = log((double)se->count_cap / (double)lo.count) /
-               log((double)hi.count / (double)lo.count);
-    double t = lo.t * exp(f * log(hi.t / lo.t));
-    /* stay inside, away from the ends */
-    if (!(t > lo.t + 1e-3 * w)) t = lo.t + 1e-3 * w;
-    if (!(t < hi.t - 1e-3 * w)) t = hi.t - 1e-3 * w;
-    return t;
+    side s = {log(e.t), 0.0};
+    /* the count is whole: aim half a simplex above the budget, so that an
+     * end at the budget exactly is still below the target */
+    if (e.count > 0)
+        s.f = log((double)e.count / ((double)se->count_cap + 0.5));
+    else
+        s.f = above ? log(2.0) : NAN;
+    return s;
 }
 
 /* The largest scale in [lo, hi] (lo fits, hi does not) that fits, to a
@@ -337,18 +342,33 @@ static double next_probe(const search *se, end lo, end hi, int same_side)
  * fit. */
 static int refine_fit(search *se, end lo, end hi, double *out, ng_error *err)
 {
-    int same_side = 0, last = 0;
+    side a = side_of(se, lo, 0), b = side_of(se, hi, 1);
+    int last = 0; /* −1: the last probe moved lo, 1: hi */
     for (int step = 0;
          step < REFINE_STEPS && hi.t - lo.t > REFINE_TOLERANCE * lo.t;
          step++) {
-        double t = next_probe(se, lo, hi, same_side);
+        double t;
+        if (!(lo.t > 0.0) || !isfinite(hi.t) || isnan(a.f) ||
+            !(a.f < 0.0 && 0.0 < b.f) || step >= REFINE_SECANT_STEPS)
+            t = 0.5 * (lo.t + hi.t);
+        else
+            t = exp(a.x - a.f * (b.x - a.x) / (b.f - a.f));
+        double margin = 0.5 * REFINE_TOLERANCE * lo.t;
+        if (!(t > lo.t + margin)) t = lo.t + margin;
+        if (!(t < hi.t - margin)) t = hi.t - margin;
         probe p = probe_at(se, t, NULL, err);
         if (p.status != NG_OK) return p.status;
-        int side = p.fits ? -1 : 1;
-        same_side = side == last ? same_side + 1 : 1;
-        last = side;
-        if (p.fits) lo = end_of(t, &p);
-        else hi = end_of(t, &p);
+        if (p.fits) {
+            lo = end_of(t, &p);
+            a = side_of(se, lo, 0);
+            if (last == -1) b.f *= 0.5; /* hi stayed twice: Illinois */
+            last = -1;
+        } else {
+            hi = end_of(t, &p);
+            b = side_of(se, hi, 1);
+            if (last == 1) a.f *= 0.5;
+            last = 1;
+        }
         report(se->opt, 0.5 + 0.49 * (step + 1) / REFINE_STEPS);
     }
     *out = lo.t;
