@@ -41,16 +41,23 @@
  *   that vertex); the joining edges are the pivots of degree 0.
  *
  *   Apparent pairs and implicit coboundaries (U. Bauer, J. Appl. Comput.
- *   Topol. 5, 391–423, 2021, on computing Vietoris–Rips barcodes). Columns are never stored: the cofacets of a simplex
- *   are enumerated from the neighbour lists when needed (complex.c), and a
- *   reduced column is kept only as the list V of simplices whose
- *   coboundaries it sums. The working column is a binary heap of cofacets
+ *   Topol. 5, 391–423, 2021, on computing Vietoris–Rips barcodes). The
+ *   coboundary matrix is never stored as such: a column is read from the
+ *   complex's cofacet lists (complex_internal.h; shared by every
+ *   filtration, only the values differ) and a reduced column is kept only
+ *   as the list V of simplices whose coboundaries it sums (keeping the
+ *   reduced columns themselves was measured slower: they are about as long
+ *   as the coboundaries they sum, and must be sorted out of the heap). The
+ *   working column is a binary heap of cofacets
  *   keyed by filtration order; equal entries cancel in pairs when they
  *   reach the top (mod-2 addition), so the first entry that survives is the
  *   pivot. Before building a heap, a column checks for an apparent pair:
  *   if its earliest cofacet τ has σ as its LATEST facet, no later column
  *   can contain τ, so τ is free and (σ, τ) is a pair with no additions; the
- *   column is then recorded with an empty V. Whether a column is apparent
+ *   column is then recorded with an empty V. The earliest cofacet is found
+ *   without reading the whole list when one has the column's own value:
+ *   the list is in position order, no cofacet has a smaller value, so the
+ *   first of equal value is the earliest. Whether a column is apparent
  *   depends on the filtration only, so all columns of a degree are first
  *   tested in parallel; the remaining ones are then reduced one by one,
  *   latest first — no column of a later simplex ever meets the pivot τ of
