@@ -487,15 +487,8 @@ static uint32_t search_bucket(const ng_complex *c, int k, const ng_index *v,
 /* Position of x in the sorted list a[0..n), or NG_POS_NONE. */
 static uint32_t index_in(const ng_index *a, size_t n, ng_index x)
 {
-    size_t lo = 0, hi = n;
-    while (lo < hi) {
-        size_t mid = lo + (hi - lo) / 2;
-        if (a[mid] < x)
-            lo = mid + 1;
-        else
-            hi = mid;
-    }
-    return lo < n && a[lo] == x ? (uint32_t)lo : NG_POS_NONE;
+    size_t at = count_below(a, n, x);
+    return at < n && a[at] == x ? (uint32_t)at : NG_POS_NONE;
 }
 
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
