@@ -68,6 +68,9 @@ typedef struct probe {
  * 12 bytes a directed pair). */
 #define GRAPH_BUILD_PEAK 24
 
+/* Working bytes of the per-scale grid per simplex of dimension ≥ 2. */
+#define GRID_BYTES 52
+
 static void report(const ng_run_options *opt, double f)
 {
     if (opt->progress) opt->progress("scale limit", f, opt->progress_ctx);
@@ -135,11 +138,19 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
         return p;
     }
     p.bytes = graph_bytes(g.offset[g.n], g.n) + p.size.bytes_build;
+    /* after the reductions, the per-scale grid sorts the factors and the
+     * shifts of the simplices of dimension ≥ 2: two 16-byte items each,
+     * a 16-byte sort buffer and a 4-byte bucket index (grid.c) */
+    size_t upper = 0;
+    for (int k = 2; k <= opt->max_degree + 1; k++) upper += p.size.count[k];
+    size_t work = upper > SIZE_MAX / GRID_BYTES ? SIZE_MAX
+                                                : upper * GRID_BYTES;
     if (p.size.bytes_reduce > 0 &&
-        reductions > (SIZE_MAX - p.bytes) / p.size.bytes_reduce)
-        p.bytes = SIZE_MAX;
-    else
-        p.bytes += reductions * p.size.bytes_reduce;
+        reductions > SIZE_MAX / p.size.bytes_reduce)
+        work = SIZE_MAX;
+    else if (reductions * p.size.bytes_reduce > work)
+        work = reductions * p.size.bytes_reduce;
+    p.bytes = work > SIZE_MAX - p.bytes ? SIZE_MAX : p.bytes + work;
     if (p.graph_bytes > p.bytes) p.bytes = p.graph_bytes;
     int over_cap = p.size.over || p.size.total > se->count_cap;
     p.over_count = over_cap && se->count_by_budget;
