@@ -30,6 +30,7 @@
 #include "h5util.h"
 #include "nervegap/distance.h"
 #include "nervegap/results.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <hdf5.h>
@@ -695,25 +696,9 @@ int ng_gather(const char *dir, const char *output, const char *table,
         status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     if (status != NG_OK) goto cleanup;
 
-    size_t len = strlen(output);
-    const char *slash = strrchr(output, '/');
-    size_t dir_len = slash ? (size_t)(slash - output) + 1 : 0;
-    temp = ng_malloc(len + 24, 1);
-    if (temp == NULL) {
-        status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
-        goto cleanup;
-    }
-    snprintf(temp, len + 24, "%.*s.%s.partial-XXXXXX", (int)dir_len, output,
-             output + dir_len);
-    int fd = mkstemp(temp);
-    if (fd < 0) {
-        status = ng_error_set(err, NG_ERR_USAGE, "-o %s: cannot create the "
-                              "output file there: %s", output,
-                              strerror(errno));
-        ng_free(temp);
-        temp = NULL;
-        goto cleanup;
-    }
+    int fd;
+    status = ng_outfile_create(output, NULL, &temp, &fd, err);
+    if (status != NG_OK) goto cleanup;
     (void)fchmod(fd, 0644);
     close(fd);
     g.out = H5Fcreate(temp, H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);

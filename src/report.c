@@ -11,6 +11,7 @@
 
 #include "alloc.h"
 #include "nervegap/distance.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -19,7 +20,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <unistd.h>
 
 void ng_report_options_init(ng_report_options *opt)
@@ -472,30 +472,10 @@ void ng_report_free(ng_report *r)
 
 int ng_report_save(const ng_report *r, const char *path, ng_error *err)
 {
-    const char *slash = strrchr(path, '/');
-    size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
-    const char *base = path + dir_len;
-    if (*base == '\0')
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: the output path names a directory; give "
-                            "a file name such as %sreport.svg", path, path);
-    size_t size = strlen(path) + 20;
-    char *temp = ng_malloc(size, 1);
-    if (temp == NULL)
-        return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
-    /* DIR/.BASE.partial-XXXXXX */
-    snprintf(temp, size, "%.*s.%s.partial-XXXXXX", (int)dir_len, path, base);
-    int fd = mkstemp(temp);
-    if (fd < 0) {
-        int e = errno;
-        ng_free(temp);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: cannot create the output file there: %s",
-                            path, strerror(e));
-    }
-    mode_t mask = umask(0);
-    umask(mask);
-    (void)fchmod(fd, 0666 & ~mask); /* a failure leaves it private */
+    char *temp;
+    int fd;
+    int status = ng_outfile_create(path, "report.svg", &temp, &fd, err);
+    if (status != NG_OK) return status;
     size_t done = 0;
     int e = 0;
     while (done < r->length) {

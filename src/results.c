@@ -11,6 +11,7 @@
 
 #include "alloc.h"
 #include "h5util.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <hdf5.h>
@@ -18,7 +19,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -44,42 +44,23 @@ const char *ng_results_temp_path(const ng_results_file *f)
 int ng_results_open(const char *path, ng_results_file **out, ng_error *err)
 {
     *out = NULL;
+    char *temp;
+    int fd;
+    int status = ng_outfile_create(path, "out.h5", &temp, &fd, err);
+    if (status != NG_OK) return status;
+    close(fd);
     ng_results_file *f = ng_calloc(1, sizeof *f);
-    const char *slash = strrchr(path, '/');
-    size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
-    const char *base = path + dir_len;
-    if (*base == '\0') {
-        ng_free(f);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: the output path names a directory; give "
-                            "a file name such as %sout.h5", path, path);
+    if (f == NULL) {
+        unlink(temp);
+        ng_free(temp);
+        return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     }
-    if (f) {
-        f->final_path = ng_strdup(path);
-        /* DIR/.BASE.partial-XXXXXX */
-        f->temp_path = ng_malloc(strlen(path) + 20, 1);
-    }
-    if (f == NULL || f->final_path == NULL || f->temp_path == NULL) {
+    f->temp_path = temp;
+    f->final_path = ng_strdup(path);
+    if (f->final_path == NULL) {
         ng_results_abort(f);
         return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     }
-    snprintf(f->temp_path, strlen(path) + 20, "%.*s.%s.partial-XXXXXX",
-             (int)dir_len, path, base);
-    int fd = mkstemp(f->temp_path);
-    if (fd < 0) {
-        int e = errno;
-        ng_free(f->final_path);
-        ng_free(f->temp_path);
-        ng_free(f);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: cannot create the output file there: %s",
-                            path, strerror(e));
-    }
-    /* mkstemp makes the file private; give it the usual permissions */
-    mode_t mask = umask(0);
-    umask(mask);
-    (void)fchmod(fd, 0666 & ~mask); /* a failure leaves it private: usable */
-    close(fd);
     *out = f;
     return NG_OK;
 }
