@@ -16,6 +16,7 @@
 
 #include "alloc.h"
 #include "nervegap/kdtree.h"
+#include "order.h"
 
 #include <errno.h>
 #include <math.h>
@@ -424,12 +425,6 @@ static int check_user_values(const double *values, size_t n,
     return NG_OK;
 }
 
-static int double_cmp(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Median: the middle value, or the mean of the two middle values. */
 static int median_of(const double *v, size_t n, double *out, ng_error *err)
 {
@@ -437,7 +432,7 @@ static int median_of(const double *v, size_t n, double *out, ng_error *err)
     if (copy == NULL)
         return ng_error_set(err, NG_ERR_NOMEM, "out of memory for the median");
     memcpy(copy, v, n * sizeof *copy);
-    qsort(copy, n, sizeof *copy, double_cmp);
+    qsort(copy, n, sizeof *copy, ng_order_doubles);
     *out = n % 2 ? copy[n / 2] : 0.5 * (copy[n / 2 - 1] + copy[n / 2]);
     ng_free(copy);
     return NG_OK;

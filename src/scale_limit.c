@@ -22,6 +22,7 @@
 #include "scale_limit.h"
 
 #include "alloc.h"
+#include "order.h"
 #include "rips_graph.h"
 #include "nervegap/distance.h"
 
@@ -203,12 +204,6 @@ static double complete_count(size_t n, int top)
     return total;
 }
 
-static int double_cmp(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* A positive starting scale for the search: the median over points of the
  * Rips edge value to the nearest other point (its own birth if larger). */
 static int start_scale(const ng_space *s, int threads, double *out,
@@ -242,7 +237,7 @@ static int start_scale(const ng_space *s, int threads, double *out,
     for (size_t i = 0; i < n; i++)
         near[i] = ng_rips_edge_value(s->law, s->rho[i], s->rho[idx[i]],
                                      near[i]);
-    qsort(near, n, sizeof *near, double_cmp);
+    qsort(near, n, sizeof *near, ng_order_doubles);
     *out = near[n / 2];
 cleanup:
     ng_free(near);
