@@ -23,6 +23,7 @@
 
 #include "alloc.h"
 #include "order.h"
+#include "radius_internal.h"
 #include "rips_graph.h"
 #include "nervegap/distance.h"
 
@@ -217,23 +218,12 @@ static int start_scale(const ng_space *s, int threads, double *out,
         status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
         goto cleanup;
     }
-    if (s->metric == NG_METRIC_GIVEN) {
-        for (size_t i = 0; i < n; i++) {
-            double best = INFINITY;
-            size_t arg = i == 0 ? 1 : 0;
-            for (size_t j = 0; j < n; j++)
-                if (j != i && s->dist[i * n + j] < best) {
-                    best = s->dist[i * n + j];
-                    arg = j;
-                }
-            near[i] = best;
-            idx[i] = (ng_index)arg;
-        }
-    } else {
+    if (s->metric == NG_METRIC_GIVEN)
+        status = ng_knn_given(s->dist, n, 1, threads, near, idx, err);
+    else
         status = ng_knn_all(s->coords, n, s->dim, s->metric, 1, threads,
                             near, idx, err);
-        if (status != NG_OK) goto cleanup;
-    }
+    if (status != NG_OK) goto cleanup;
     for (size_t i = 0; i < n; i++)
         near[i] = ng_rips_edge_value(s->law, s->rho[i], s->rho[idx[i]],
                                      near[i]);
