@@ -11,6 +11,7 @@
 
 #include "alloc.h"
 #include "nervegap/distance.h"
+#include "nervegap/summary.h"
 #include "outfile.h"
 
 #include <errno.h>
@@ -110,21 +111,6 @@ static void lines_free(lines *l)
     memset(l, 0, sizeof *l);
 }
 
-/* "1 592 578" */
-static const char *grouped(long long v, char *buf, size_t size)
-{
-    char digits[32];
-    int n = snprintf(digits, sizeof digits, "%lld", v < 0 ? -v : v);
-    size_t used = 0;
-    if (v < 0 && used + 1 < size) buf[used++] = '-';
-    for (int i = 0; i < n && used + 2 < size; i++) {
-        if (i > 0 && (n - i) % 3 == 0) buf[used++] = ' ';
-        buf[used++] = digits[i];
-    }
-    buf[used] = '\0';
-    return buf;
-}
-
 static void describe_run(lines *l, const ng_results *r, const char *who)
 {
     char a[32];
@@ -134,11 +120,13 @@ static void describe_run(lines *l, const ng_results *r, const char *who)
              r->created ? " on " : "", r->created ? r->created : "");
     if (r->ambient_dim > 0)
         add_line(l, "%sinput %s: n = %s points in dimension %zu, metric %s",
-                 who, r->source, grouped((long long)r->n_points, a, sizeof a),
+                 who, r->source,
+                 ng_summary_grouped((long long)r->n_points, a, sizeof a),
                  r->ambient_dim, r->metric);
     else
         add_line(l, "%sinput %s: distance matrix of n = %s points", who,
-                 r->source, grouped((long long)r->n_points, a, sizeof a));
+                 r->source,
+                 ng_summary_grouped((long long)r->n_points, a, sizeof a));
     add_line(l, "%sscheme: radius %s, law %s, degrees 0..%d; scale limit "
                 "T = %.6g%s; %s", who, r->radius_rule, r->law, r->max_degree,
              r->scale_limit,
@@ -167,15 +155,15 @@ static void summary_one(const ng_results *r, lines *l)
             extra += sr - sc;
             uc += (size_t)snprintf(cech + uc, sizeof cech - uc, "%s%s",
                                    k ? " · " : "",
-                                   grouped(sc, a, sizeof a));
+                                   ng_summary_grouped(sc, a, sizeof a));
             ur += (size_t)snprintf(rips + ur, sizeof rips - ur, "%s%s",
                                    k ? " · " : "",
-                                   grouped(sr, b, sizeof b));
+                                   ng_summary_grouped(sr, b, sizeof b));
             if (uc >= sizeof cech || ur >= sizeof rips) break;
         }
         add_line(l, "simplices at T by dimension 0..%d: Čech %s; Rips %s; "
                     "Rips has %s that Čech does not", r->max_degree + 1,
-                 cech, rips, grouped(extra, c, sizeof c));
+                 cech, rips, ng_summary_grouped(extra, c, sizeof c));
     }
     if (r->has_divergence) {
         char buf[REPORT_TEXT * 2] = "";
