@@ -56,6 +56,22 @@ report_section *report_section_add(report_ctx *c, const char *id,
     return s;
 }
 
+/* Appends a copy of text to the n strings of *list; sets *failed when
+ * out of memory (the list stays as it was, owned by the caller). */
+static void append_copy(char ***list, int *n, int *failed, const char *text)
+{
+    char **more = ng_realloc(*list, (size_t)*n + 1, sizeof *more);
+    char *copy = ng_strdup(text);
+    if (more == NULL || copy == NULL) {
+        if (more) *list = more;
+        ng_free(copy);
+        *failed = 1;
+        return;
+    }
+    *list = more;
+    (*list)[(*n)++] = copy;
+}
+
 void report_note(report_ctx *c, const char *fmt, ...)
 {
     char buf[REPORT_TEXT * 3];
@@ -63,16 +79,7 @@ void report_note(report_ctx *c, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(buf, sizeof buf, fmt, ap);
     va_end(ap);
-    char **more = ng_realloc(c->notes, (size_t)c->n_notes + 1, sizeof *more);
-    char *copy = ng_strdup(buf);
-    if (more == NULL || copy == NULL) {
-        if (more) c->notes = more;
-        ng_free(copy);
-        c->failed = 1;
-        return;
-    }
-    c->notes = more;
-    c->notes[c->n_notes++] = copy;
+    append_copy(&c->notes, &c->n_notes, &c->failed, buf);
 }
 
 /* ---- the summary ---- */
@@ -92,16 +99,7 @@ static void add_line(lines *l, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(buf, sizeof buf, fmt, ap);
     va_end(ap);
-    char **more = ng_realloc(l->line, (size_t)l->n + 1, sizeof *more);
-    char *copy = ng_strdup(buf);
-    if (more == NULL || copy == NULL) {
-        if (more) l->line = more;
-        ng_free(copy);
-        l->failed = 1;
-        return;
-    }
-    l->line = more;
-    l->line[l->n++] = copy;
+    append_copy(&l->line, &l->n, &l->failed, buf);
 }
 
 static void lines_free(lines *l)
