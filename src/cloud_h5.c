@@ -12,6 +12,7 @@
 #include "cloud_internal.h"
 
 #include "alloc.h"
+#include "h5util.h"
 
 #include <hdf5.h>
 #include <math.h>
@@ -35,30 +36,6 @@ static const char *class_name(H5T_class_t c)
     }
 }
 
-/* Finds the first prefix of dataset (a '/'-separated path) that does not
- * exist in file; copies it to missing. Returns 1 when the whole path
- * exists. H5Lexists needs every intermediate group to exist, hence the
- * walk. */
-static int path_exists(hid_t file, const char *dataset, char *missing,
-                       size_t cap)
-{
-    size_t len = strlen(dataset);
-    if (len >= cap) len = cap - 1;
-    memcpy(missing, dataset, len);
-    missing[len] = '\0';
-    for (size_t k = 1; k <= len; k++) {
-        if (k < len && missing[k] != '/') continue;
-        char saved = missing[k];
-        missing[k] = '\0';
-        int slash_only = k == 1 && missing[0] == '/';
-        if (!slash_only && missing[k - 1] != '/' &&
-            H5Lexists(file, missing, H5P_DEFAULT) <= 0)
-            return 0;
-        missing[k] = saved;
-    }
-    return 1;
-}
-
 int cloud_h5_read(const char *path, const char *dataset, cloud_table *t,
                   ng_error *err)
 {
@@ -66,17 +43,13 @@ int cloud_h5_read(const char *path, const char *dataset, cloud_table *t,
     int rc = NG_OK;
     hid_t file = H5I_INVALID_HID, dset = H5I_INVALID_HID;
     hid_t type = H5I_INVALID_HID, space = H5I_INVALID_HID;
-    H5E_auto2_t old_func = NULL;
-    void *old_data = NULL;
-    int silenced = 0;
+    ng_h5_quiet quiet;
 
     FILE *probe = cloud_open(path, err);
     if (!probe) return NG_ERR_INPUT;
     fclose(probe);
 
-    if (H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data) >= 0 &&
-        H5Eset_auto2(H5E_DEFAULT, NULL, NULL) >= 0)
-        silenced = 1;
+    ng_h5_quiet_begin(&quiet);
 
 #if H5_VERSION_GE(1, 12, 0)
     htri_t is_hdf5 = H5Fis_accessible(path, H5P_DEFAULT);
@@ -94,7 +67,7 @@ int cloud_h5_read(const char *path, const char *dataset, cloud_table *t,
         goto cleanup;
     }
     char missing[512];
-    if (!path_exists(file, dataset, missing, sizeof missing)) {
+    if (!ng_h5_path_exists(file, dataset, missing, sizeof missing)) {
         if (strcmp(missing, dataset) == 0)
             rc = ng_error_set(err, NG_ERR_INPUT, "%s: no dataset '%s'", path,
                               dataset);
@@ -186,7 +159,7 @@ cleanup:
     if (type >= 0) H5Tclose(type);
     if (dset >= 0) H5Dclose(dset);
     if (file >= 0) H5Fclose(file);
-    if (silenced) H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
+    ng_h5_quiet_end(&quiet);
     if (rc != NG_OK) cloud_table_free(t);
     return rc;
 }

@@ -27,8 +27,10 @@
 
 #include "alloc.h"
 #include "batch_internal.h"
+#include "h5util.h"
 #include "nervegap/distance.h"
 #include "nervegap/results.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <hdf5.h>
@@ -337,65 +339,21 @@ static size_t cut_bars(const ng_bars *b, double T, double *out)
 
 /* ---- HDF5 helpers ---- */
 
-static int attr_write(hid_t loc, const char *name, hid_t type,
-                      const void *value)
-{
-    hid_t space = H5Screate(H5S_SCALAR);
-    hid_t a = space < 0 ? -1
-                        : H5Acreate2(loc, name, type, space, H5P_DEFAULT,
-                                     H5P_DEFAULT);
-    herr_t w = a < 0 ? -1 : H5Awrite(a, type, value);
-    if (a >= 0) H5Aclose(a);
-    if (space >= 0) H5Sclose(space);
-    return w < 0 ? -1 : 0;
-}
-
-static int attr_string(hid_t loc, const char *name, const char *value)
-{
-    hid_t t = H5Tcopy(H5T_C_S1);
-    int r = t < 0 || H5Tset_size(t, H5T_VARIABLE) < 0 ||
-                    H5Tset_cset(t, H5T_CSET_UTF8) < 0
-                ? -1
-                : attr_write(loc, name, t, &value);
-    if (t >= 0) H5Tclose(t);
-    return r;
-}
-
-static int attr_int(hid_t loc, const char *name, int64_t v)
-{
-    return attr_write(loc, name, H5T_NATIVE_INT64, &v);
-}
-
-static int attr_double(hid_t loc, const char *name, double v)
-{
-    return attr_write(loc, name, H5T_NATIVE_DOUBLE, &v);
-}
-
+/* The datasets of the gathered file are small: stored contiguous. */
 static int write_set(hid_t loc, const char *name, hid_t file_type,
                      hid_t mem_type, int rank, const hsize_t *dims,
                      const void *data)
 {
-    hid_t space = H5Screate_simple(rank, dims, NULL);
-    hid_t set = space < 0 ? -1
-                          : H5Dcreate2(loc, name, file_type, space,
-                                       H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
-    herr_t w = set < 0 ? -1
-                       : H5Dwrite(set, mem_type, H5S_ALL, H5S_ALL,
-                                  H5P_DEFAULT, data);
-    if (set >= 0) H5Dclose(set);
-    if (space >= 0) H5Sclose(space);
-    return w < 0 ? -1 : 0;
+    return ng_h5_dataset_write(loc, name, file_type, mem_type, rank, dims,
+                               H5P_DEFAULT, data);
 }
 
 static int write_strings(hid_t loc, const char *name, const char **v,
                          size_t n)
 {
-    hid_t t = H5Tcopy(H5T_C_S1);
+    hid_t t = ng_h5_string_type();
     hsize_t dims[1] = {n};
-    int r = t < 0 || H5Tset_size(t, H5T_VARIABLE) < 0 ||
-                    H5Tset_cset(t, H5T_CSET_UTF8) < 0
-                ? -1
-                : write_set(loc, name, t, t, 1, dims, v);
+    int r = t < 0 ? -1 : write_set(loc, name, t, t, 1, dims, v);
     if (t >= 0) H5Tclose(t);
     return r;
 }
@@ -461,21 +419,19 @@ static int confidence(gather *g, size_t jf, const ng_results *full)
     j->used = used;
     if (status != NG_OK || used == 0) goto cleanup;
 
-    hid_t grp = H5Gcreate2(g->conf_group, j->id, H5P_DEFAULT, H5P_DEFAULT,
-                           H5P_DEFAULT);
+    hid_t grp = ng_h5_group_create(g->conf_group, j->id);
     int r = grp < 0 ? -1 : 0;
     if (r == 0) {
         hsize_t n1[1] = {used};
-        r |= attr_double(grp, "alpha", g->alpha);
-        r |= attr_int(grp, "subsamples", (int64_t)B);
-        r |= attr_int(grp, "subsamples_used", (int64_t)used);
+        r |= ng_h5_attr_double(grp, "alpha", g->alpha);
+        r |= ng_h5_attr_int(grp, "subsamples", (int64_t)B);
+        r |= ng_h5_attr_int(grp, "subsamples_used", (int64_t)used);
         r |= write_set(grp, "subsample_index", H5T_STD_I64LE,
                        H5T_NATIVE_INT64, 1, n1, index);
     }
     for (int x = 0; x < 2 && r == 0; x++) {
         const ng_diagram *df = x ? &full->rips : &full->cech;
-        hid_t cg = H5Gcreate2(grp, x ? "rips" : "cech", H5P_DEFAULT,
-                              H5P_DEFAULT, H5P_DEFAULT);
+        hid_t cg = ng_h5_group_create(grp, x ? "rips" : "cech");
         if (cg < 0) {
             r = -1;
             break;
@@ -662,8 +618,7 @@ static int write_index(gather *g)
 {
     const char **v = ng_malloc(g->n + 1, sizeof *v);
     if (v == NULL) return ng_error_set(g->err, NG_ERR_NOMEM, "no memory");
-    hid_t grp = H5Gcreate2(g->out, "index", H5P_DEFAULT, H5P_DEFAULT,
-                           H5P_DEFAULT);
+    hid_t grp = ng_h5_group_create(g->out, "index");
     int r = grp < 0 ? -1 : 0;
     for (int field = 0; field < 5 && r == 0; field++) {
         for (size_t j = 0; j < g->n; j++) {
@@ -733,44 +688,24 @@ int ng_gather(const char *dir, const char *output, const char *table,
     g.err = err;
     g.out = g.jobs_group = g.conf_group = -1;
     char *temp = NULL;
-    H5E_auto2_t old_func;
-    void *old_data;
-    H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
-    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+    ng_h5_quiet quiet;
+    ng_h5_quiet_begin(&quiet);
     int status = read_list(&g);
     if (status == NG_OK && (g.jobs_dir = batch_path(dir, "jobs", NULL)) ==
                                NULL)
         status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     if (status != NG_OK) goto cleanup;
 
-    size_t len = strlen(output);
-    const char *slash = strrchr(output, '/');
-    size_t dir_len = slash ? (size_t)(slash - output) + 1 : 0;
-    temp = ng_malloc(len + 24, 1);
-    if (temp == NULL) {
-        status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
-        goto cleanup;
-    }
-    snprintf(temp, len + 24, "%.*s.%s.partial-XXXXXX", (int)dir_len, output,
-             output + dir_len);
-    int fd = mkstemp(temp);
-    if (fd < 0) {
-        status = ng_error_set(err, NG_ERR_USAGE, "-o %s: cannot create the "
-                              "output file there: %s", output,
-                              strerror(errno));
-        ng_free(temp);
-        temp = NULL;
-        goto cleanup;
-    }
+    int fd;
+    status = ng_outfile_create(output, NULL, &temp, &fd, err);
+    if (status != NG_OK) goto cleanup;
     (void)fchmod(fd, 0644);
     close(fd);
     g.out = H5Fcreate(temp, H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
     if (g.out >= 0)
-        g.jobs_group = H5Gcreate2(g.out, "jobs", H5P_DEFAULT, H5P_DEFAULT,
-                                  H5P_DEFAULT);
+        g.jobs_group = ng_h5_group_create(g.out, "jobs");
     if (g.jobs_group >= 0)
-        g.conf_group = H5Gcreate2(g.out, "confidence", H5P_DEFAULT,
-                                  H5P_DEFAULT, H5P_DEFAULT);
+        g.conf_group = ng_h5_group_create(g.out, "confidence");
     if (g.conf_group < 0) {
         status = ng_error_set(err, NG_ERR_IO, "%s: cannot create the HDF5 "
                               "file", output);
@@ -788,14 +723,14 @@ int ng_gather(const char *dir, const char *output, const char *table,
         hid_t root = H5Gopen2(g.out, "/", H5P_DEFAULT);
         int r = root < 0 ? -1 : 0;
         if (r == 0) {
-            r |= attr_string(root, "format", GATHER_FORMAT);
-            r |= attr_int(root, "format_version", GATHER_FORMAT_VERSION);
-            r |= attr_string(root, "tool_version", NG_VERSION);
-            r |= attr_string(root, "created", when);
-            r |= attr_string(root, "directory", dir);
-            r |= attr_double(root, "alpha", g.alpha);
-            r |= attr_int(root, "jobs", (int64_t)sum->jobs);
-            r |= attr_int(root, "complete", (int64_t)sum->complete);
+            r |= ng_h5_attr_string(root, "format", GATHER_FORMAT);
+            r |= ng_h5_attr_int(root, "format_version", GATHER_FORMAT_VERSION);
+            r |= ng_h5_attr_string(root, "tool_version", NG_VERSION);
+            r |= ng_h5_attr_string(root, "created", when);
+            r |= ng_h5_attr_string(root, "directory", dir);
+            r |= ng_h5_attr_double(root, "alpha", g.alpha);
+            r |= ng_h5_attr_int(root, "jobs", (int64_t)sum->jobs);
+            r |= ng_h5_attr_int(root, "complete", (int64_t)sum->complete);
             H5Gclose(root);
         }
         if (r != 0)
@@ -808,7 +743,7 @@ cleanup:
     if (g.out >= 0 && H5Fclose(g.out) < 0 && status == NG_OK)
         status = ng_error_set(err, NG_ERR_IO, "%s: writing failed (disk "
                               "full?)", output);
-    H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
+    ng_h5_quiet_end(&quiet);
     if (temp && status == NG_OK && rename(temp, output) != 0)
         status = ng_error_set(err, NG_ERR_IO, "%s: cannot rename %s onto it: "
                               "%s", output, temp, strerror(errno));

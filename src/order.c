@@ -19,6 +19,12 @@ uint64_t ng_order_key(double x)
     return b >> 63 ? ~b : b | ((uint64_t)1 << 63);
 }
 
+int ng_order_doubles(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
 #define DIGITS 65536
 
 int ng_sort_keyed(ng_keyed *a, size_t n)

@@ -3,7 +3,8 @@
  * The reduction sorts simplices by filtration value, the per-scale grid
  * sorts enlargement factors and shifts: both sort (value, position) pairs
  * by value, ties by position, tens of millions at a time. A radix sort on
- * the bits of the doubles does that in four linear passes.
+ * the bits of the doubles does that in four linear passes. Short lists of
+ * plain doubles go through qsort with ng_order_doubles.
  */
 #ifndef NERVEGAP_ORDER_H
 #define NERVEGAP_ORDER_H
@@ -24,5 +25,8 @@ uint64_t ng_order_key(double x);
  * (the sort is stable). Returns 0, or −1 when out of memory (a is then
  * unchanged). */
 int ng_sort_keyed(ng_keyed *a, size_t n);
+
+/* qsort comparator of doubles, increasing (not NaN). */
+int ng_order_doubles(const void *a, const void *b);
 
 #endif

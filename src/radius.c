@@ -16,6 +16,8 @@
 
 #include "alloc.h"
 #include "nervegap/kdtree.h"
+#include "order.h"
+#include "radius_internal.h"
 
 #include <errno.h>
 #include <math.h>
@@ -136,40 +138,71 @@ void ng_radii_free(ng_radii *radii)
 
 typedef struct row_entry { double d; ng_index j; } row_entry;
 
+/* 1 when a comes before b in the order (distance, index). */
+static int entry_before(row_entry a, row_entry b)
+{
+    return a.d < b.d || (a.d == b.d && a.j < b.j);
+}
+
 static int entry_cmp(const void *a, const void *b)
 {
     const row_entry *x = a, *y = b;
-    if (x->d != y->d) return x->d < y->d ? -1 : 1;
-    return (x->j > y->j) - (x->j < y->j);
+    return entry_before(*x, *y) ? -1 : entry_before(*y, *x);
 }
 
-/* k nearest others of every row of a distance matrix, ordered by
- * (distance, index) like ng_knn_all. */
-static int knn_given(const double *dist, size_t n, size_t k, int threads,
-                     double *out_d, ng_index *out_j, ng_error *err)
+/* Restores the heap h[0..m) (each entry not before its children: the
+ * last of the order on top) below position i. */
+static void sift_down(row_entry *h, size_t m, size_t i)
+{
+    for (;;) {
+        size_t c = 2 * i + 1;
+        if (c >= m) return;
+        if (c + 1 < m && entry_before(h[c], h[c + 1])) c++;
+        if (!entry_before(h[i], h[c])) return;
+        row_entry t = h[i];
+        h[i] = h[c];
+        h[c] = t;
+        i = c;
+    }
+}
+
+/* Each row keeps the k first others of its order in a heap whose top is
+ * the last of them, so that a row costs O(n log k) instead of a sort of
+ * the whole row; the k kept are sorted at the end. */
+int ng_knn_given(const double *dist, size_t n, size_t k, int threads,
+                 double *out_d, ng_index *out_j, ng_error *err)
 {
     int status = NG_OK;
     int team = threads > 0 ? threads : omp_get_max_threads();
 #pragma omp parallel num_threads(team) if (n > 256)
     {
-        row_entry *row = ng_malloc(n, sizeof *row);
-        if (row == NULL) {
+        row_entry *heap = ng_malloc(k, sizeof *heap);
+        if (heap == NULL) {
 #pragma omp atomic write
             status = NG_ERR_NOMEM;
         }
 #pragma omp for schedule(static)
         for (size_t i = 0; i < n; i++) {
-            if (row == NULL) continue;
-            size_t m = 0;
-            for (size_t j = 0; j < n; j++)
-                if (j != i) row[m++] = (row_entry){dist[i * n + j], (ng_index)j};
-            qsort(row, m, sizeof *row, entry_cmp);
-            for (size_t r = 0; r < k; r++) {
-                out_d[i * k + r] = row[r].d;
-                out_j[i * k + r] = row[r].j;
+            if (heap == NULL) continue;
+            const double *row = dist + i * n;
+            size_t m = 0, j = 0;
+            for (; j < n && m < k; j++)
+                if (j != i) heap[m++] = (row_entry){row[j], (ng_index)j};
+            for (size_t p = m / 2; p-- > 0;) sift_down(heap, m, p);
+            for (; j < n; j++) {
+                row_entry e = {row[j], (ng_index)j};
+                if (j != i && entry_before(e, heap[0])) {
+                    heap[0] = e;
+                    sift_down(heap, m, 0);
+                }
+            }
+            qsort(heap, m, sizeof *heap, entry_cmp);
+            for (size_t r = 0; r < m; r++) {
+                out_d[i * k + r] = heap[r].d;
+                out_j[i * k + r] = heap[r].j;
             }
         }
-        ng_free(row);
+        ng_free(heap);
     }
     if (status != NG_OK)
         return ng_error_set(err, status, "out of memory sorting distances");
@@ -189,8 +222,8 @@ static int nearest(const ng_cloud *cloud, ng_metric metric, size_t k,
                               "out of memory for %zu × %zu neighbours",
                               cloud->n, k);
     else if (cloud->dist)
-        status = knn_given(cloud->dist, cloud->n, k, threads, *out_d, *out_j,
-                           err);
+        status = ng_knn_given(cloud->dist, cloud->n, k, threads, *out_d,
+                              *out_j, err);
     else
         status = ng_knn_all(cloud->coords, cloud->n, cloud->dim, metric, k,
                             threads, *out_d, *out_j, err);
@@ -424,12 +457,6 @@ static int check_user_values(const double *values, size_t n,
     return NG_OK;
 }
 
-static int double_cmp(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Median: the middle value, or the mean of the two middle values. */
 static int median_of(const double *v, size_t n, double *out, ng_error *err)
 {
@@ -437,7 +464,7 @@ static int median_of(const double *v, size_t n, double *out, ng_error *err)
     if (copy == NULL)
         return ng_error_set(err, NG_ERR_NOMEM, "out of memory for the median");
     memcpy(copy, v, n * sizeof *copy);
-    qsort(copy, n, sizeof *copy, double_cmp);
+    qsort(copy, n, sizeof *copy, ng_order_doubles);
     *out = n % 2 ? copy[n / 2] : 0.5 * (copy[n / 2 - 1] + copy[n / 2]);
     ng_free(copy);
     return NG_OK;

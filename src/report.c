@@ -11,6 +11,8 @@
 
 #include "alloc.h"
 #include "nervegap/distance.h"
+#include "nervegap/summary.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <fcntl.h>
@@ -19,7 +21,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <unistd.h>
 
 void ng_report_options_init(ng_report_options *opt)
@@ -55,6 +56,22 @@ report_section *report_section_add(report_ctx *c, const char *id,
     return s;
 }
 
+/* Appends a copy of text to the n strings of *list; sets *failed when
+ * out of memory (the list stays as it was, owned by the caller). */
+static void append_copy(char ***list, int *n, int *failed, const char *text)
+{
+    char **more = ng_realloc(*list, (size_t)*n + 1, sizeof *more);
+    char *copy = ng_strdup(text);
+    if (more == NULL || copy == NULL) {
+        if (more) *list = more;
+        ng_free(copy);
+        *failed = 1;
+        return;
+    }
+    *list = more;
+    (*list)[(*n)++] = copy;
+}
+
 void report_note(report_ctx *c, const char *fmt, ...)
 {
     char buf[REPORT_TEXT * 3];
@@ -62,16 +79,7 @@ void report_note(report_ctx *c, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(buf, sizeof buf, fmt, ap);
     va_end(ap);
-    char **more = ng_realloc(c->notes, (size_t)c->n_notes + 1, sizeof *more);
-    char *copy = ng_strdup(buf);
-    if (more == NULL || copy == NULL) {
-        if (more) c->notes = more;
-        ng_free(copy);
-        c->failed = 1;
-        return;
-    }
-    c->notes = more;
-    c->notes[c->n_notes++] = copy;
+    append_copy(&c->notes, &c->n_notes, &c->failed, buf);
 }
 
 /* ---- the summary ---- */
@@ -91,16 +99,7 @@ static void add_line(lines *l, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(buf, sizeof buf, fmt, ap);
     va_end(ap);
-    char **more = ng_realloc(l->line, (size_t)l->n + 1, sizeof *more);
-    char *copy = ng_strdup(buf);
-    if (more == NULL || copy == NULL) {
-        if (more) l->line = more;
-        ng_free(copy);
-        l->failed = 1;
-        return;
-    }
-    l->line = more;
-    l->line[l->n++] = copy;
+    append_copy(&l->line, &l->n, &l->failed, buf);
 }
 
 static void lines_free(lines *l)
@@ -108,21 +107,6 @@ static void lines_free(lines *l)
     for (int i = 0; i < l->n; i++) ng_free(l->line[i]);
     ng_free(l->line);
     memset(l, 0, sizeof *l);
-}
-
-/* "1 592 578" */
-static const char *grouped(long long v, char *buf, size_t size)
-{
-    char digits[32];
-    int n = snprintf(digits, sizeof digits, "%lld", v < 0 ? -v : v);
-    size_t used = 0;
-    if (v < 0 && used + 1 < size) buf[used++] = '-';
-    for (int i = 0; i < n && used + 2 < size; i++) {
-        if (i > 0 && (n - i) % 3 == 0) buf[used++] = ' ';
-        buf[used++] = digits[i];
-    }
-    buf[used] = '\0';
-    return buf;
 }
 
 static void describe_run(lines *l, const ng_results *r, const char *who)
@@ -134,11 +118,13 @@ static void describe_run(lines *l, const ng_results *r, const char *who)
              r->created ? " on " : "", r->created ? r->created : "");
     if (r->ambient_dim > 0)
         add_line(l, "%sinput %s: n = %s points in dimension %zu, metric %s",
-                 who, r->source, grouped((long long)r->n_points, a, sizeof a),
+                 who, r->source,
+                 ng_summary_grouped((long long)r->n_points, a, sizeof a),
                  r->ambient_dim, r->metric);
     else
         add_line(l, "%sinput %s: distance matrix of n = %s points", who,
-                 r->source, grouped((long long)r->n_points, a, sizeof a));
+                 r->source,
+                 ng_summary_grouped((long long)r->n_points, a, sizeof a));
     add_line(l, "%sscheme: radius %s, law %s, degrees 0..%d; scale limit "
                 "T = %.6g%s; %s", who, r->radius_rule, r->law, r->max_degree,
              r->scale_limit,
@@ -167,15 +153,15 @@ static void summary_one(const ng_results *r, lines *l)
             extra += sr - sc;
             uc += (size_t)snprintf(cech + uc, sizeof cech - uc, "%s%s",
                                    k ? " · " : "",
-                                   grouped(sc, a, sizeof a));
+                                   ng_summary_grouped(sc, a, sizeof a));
             ur += (size_t)snprintf(rips + ur, sizeof rips - ur, "%s%s",
                                    k ? " · " : "",
-                                   grouped(sr, b, sizeof b));
+                                   ng_summary_grouped(sr, b, sizeof b));
             if (uc >= sizeof cech || ur >= sizeof rips) break;
         }
         add_line(l, "simplices at T by dimension 0..%d: Čech %s; Rips %s; "
                     "Rips has %s that Čech does not", r->max_degree + 1,
-                 cech, rips, grouped(extra, c, sizeof c));
+                 cech, rips, ng_summary_grouped(extra, c, sizeof c));
     }
     if (r->has_divergence) {
         char buf[REPORT_TEXT * 2] = "";
@@ -472,30 +458,10 @@ void ng_report_free(ng_report *r)
 
 int ng_report_save(const ng_report *r, const char *path, ng_error *err)
 {
-    const char *slash = strrchr(path, '/');
-    size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
-    const char *base = path + dir_len;
-    if (*base == '\0')
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: the output path names a directory; give "
-                            "a file name such as %sreport.svg", path, path);
-    size_t size = strlen(path) + 20;
-    char *temp = ng_malloc(size, 1);
-    if (temp == NULL)
-        return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
-    /* DIR/.BASE.partial-XXXXXX */
-    snprintf(temp, size, "%.*s.%s.partial-XXXXXX", (int)dir_len, path, base);
-    int fd = mkstemp(temp);
-    if (fd < 0) {
-        int e = errno;
-        ng_free(temp);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: cannot create the output file there: %s",
-                            path, strerror(e));
-    }
-    mode_t mask = umask(0);
-    umask(mask);
-    (void)fchmod(fd, 0666 & ~mask); /* a failure leaves it private */
+    char *temp;
+    int fd;
+    int status = ng_outfile_create(path, "report.svg", &temp, &fd, err);
+    if (status != NG_OK) return status;
     size_t done = 0;
     int e = 0;
     while (done < r->length) {

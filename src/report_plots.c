@@ -12,6 +12,7 @@
 #include "report_internal.h"
 
 #include "alloc.h"
+#include "nervegap/summary.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -129,34 +130,18 @@ static const ng_bars *series_bars(const series *s, int k)
 
 /* ---- bars ranked by length ---- */
 
-typedef struct ranked {
-    double birth, death, length;
-} ranked;
-
-static int longer_first(const void *pa, const void *pb)
-{
-    const ranked *a = pa, *b = pb;
-    if (a->length != b->length) return a->length > b->length ? -1 : 1;
-    if (a->birth != b->birth) return a->birth < b->birth ? -1 : 1;
-    return (a->death > b->death) - (a->death < b->death);
-}
-
-/* The bars of b sorted longest first (bars alive at T first of all);
- * NULL with *failed set on allocation failure, NULL for no bars. */
-static ranked *rank_bars(const ng_bars *b, int *failed)
+/* The count longest bars of b, longest first (summary.h); NULL with
+ * *failed set on allocation failure, NULL for no bars. */
+static ng_ranked_bar *rank_bars(const ng_bars *b, size_t count, int *failed)
 {
     if (b == NULL || b->count == 0) return NULL;
-    ranked *r = ng_malloc(b->count, sizeof *r);
+    if (count > b->count) count = b->count;
+    ng_ranked_bar *r = ng_malloc(count, sizeof *r);
     if (r == NULL) {
         *failed = 1;
         return NULL;
     }
-    for (size_t i = 0; i < b->count; i++) {
-        r[i].birth = b->interval[2 * i];
-        r[i].death = b->interval[2 * i + 1];
-        r[i].length = r[i].death - r[i].birth;
-    }
-    qsort(r, b->count, sizeof *r, longer_first);
+    ng_summary_longest(b, count, r);
     return r;
 }
 
@@ -190,7 +175,7 @@ static double barcode_box(report_ctx *c, ng_svg *g, double x, double y,
                      rows, 0);
     ng_svg_plot_axes(g, &p, report_scale_label(s->r), NULL);
 
-    ranked *bars = rank_bars(b, &c->failed);
+    ng_ranked_bar *bars = rank_bars(b, max_bars, &c->failed);
     double slot = plot_h / rows, thick = fmax(0.8, fmin(slot * 0.72, 10));
     const ng_svg_style bar = {NULL, s->colour, 0, 0, NULL};
     for (size_t i = 0; bars && i < shown; i++) {
@@ -292,7 +277,7 @@ static void diagram_points(ng_svg *g, const ng_svg_plot *p, const series *s,
     const ng_bars *b = series_bars(s, k);
     *drawn = *total = 0;
     if (b == NULL || b->count == 0) return;
-    ranked *bars = rank_bars(b, failed);
+    ng_ranked_bar *bars = rank_bars(b, DIAGRAM_MAX_POINTS, failed);
     if (bars == NULL) return;
     size_t m = b->count < DIAGRAM_MAX_POINTS ? b->count : DIAGRAM_MAX_POINTS;
     const ng_svg_style open = {s->colour, NULL, 1.3, 0, NULL};

@@ -10,6 +10,8 @@
 #include "nervegap/results.h"
 
 #include "alloc.h"
+#include "h5util.h"
+#include "outfile.h"
 
 #include <errno.h>
 #include <hdf5.h>
@@ -17,7 +19,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -43,42 +44,23 @@ const char *ng_results_temp_path(const ng_results_file *f)
 int ng_results_open(const char *path, ng_results_file **out, ng_error *err)
 {
     *out = NULL;
+    char *temp;
+    int fd;
+    int status = ng_outfile_create(path, "out.h5", &temp, &fd, err);
+    if (status != NG_OK) return status;
+    close(fd);
     ng_results_file *f = ng_calloc(1, sizeof *f);
-    const char *slash = strrchr(path, '/');
-    size_t dir_len = slash ? (size_t)(slash - path) + 1 : 0;
-    const char *base = path + dir_len;
-    if (*base == '\0') {
-        ng_free(f);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: the output path names a directory; give "
-                            "a file name such as %sout.h5", path, path);
+    if (f == NULL) {
+        unlink(temp);
+        ng_free(temp);
+        return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     }
-    if (f) {
-        f->final_path = ng_strdup(path);
-        /* DIR/.BASE.partial-XXXXXX */
-        f->temp_path = ng_malloc(strlen(path) + 20, 1);
-    }
-    if (f == NULL || f->final_path == NULL || f->temp_path == NULL) {
+    f->temp_path = temp;
+    f->final_path = ng_strdup(path);
+    if (f->final_path == NULL) {
         ng_results_abort(f);
         return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
     }
-    snprintf(f->temp_path, strlen(path) + 20, "%.*s.%s.partial-XXXXXX",
-             (int)dir_len, path, base);
-    int fd = mkstemp(f->temp_path);
-    if (fd < 0) {
-        int e = errno;
-        ng_free(f->final_path);
-        ng_free(f->temp_path);
-        ng_free(f);
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "-o %s: cannot create the output file there: %s",
-                            path, strerror(e));
-    }
-    /* mkstemp makes the file private; give it the usual permissions */
-    mode_t mask = umask(0);
-    umask(mask);
-    (void)fchmod(fd, 0666 & ~mask); /* a failure leaves it private: usable */
-    close(fd);
     *out = f;
     return NG_OK;
 }
@@ -92,8 +74,6 @@ void ng_results_abort(ng_results_file *f)
     ng_free(f);
 }
 
-/* ---- small HDF5 helpers: each returns 0 on success, -1 on failure ---- */
-
 /* What the writing helpers share: progress over the data elements. */
 typedef struct writer {
     ng_progress_fn progress;
@@ -101,41 +81,6 @@ typedef struct writer {
     double total; /* elements of all datasets */
     double done;
 } writer;
-
-static int attr_write(hid_t loc, const char *name, hid_t type,
-                      const void *value)
-{
-    hid_t space = H5Screate(H5S_SCALAR);
-    hid_t attr = space < 0 ? -1
-                           : H5Acreate2(loc, name, type, space, H5P_DEFAULT,
-                                        H5P_DEFAULT);
-    herr_t w = attr < 0 ? -1 : H5Awrite(attr, type, value);
-    if (attr >= 0) H5Aclose(attr);
-    if (space >= 0) H5Sclose(space);
-    return w < 0 ? -1 : 0;
-}
-
-static int attr_string(hid_t loc, const char *name, const char *value)
-{
-    hid_t type = H5Tcopy(H5T_C_S1);
-    if (type < 0) return -1;
-    int r = -1;
-    if (H5Tset_size(type, H5T_VARIABLE) >= 0 &&
-        H5Tset_cset(type, H5T_CSET_UTF8) >= 0)
-        r = attr_write(loc, name, type, &value);
-    H5Tclose(type);
-    return r;
-}
-
-static int attr_double(hid_t loc, const char *name, double value)
-{
-    return attr_write(loc, name, H5T_NATIVE_DOUBLE, &value);
-}
-
-static int attr_int(hid_t loc, const char *name, int64_t value)
-{
-    return attr_write(loc, name, H5T_NATIVE_INT64, &value);
-}
 
 /* Creation properties of a dataset: chunked with shuffle and deflate when
  * it holds at least NG_RESULTS_CHUNK_MIN elements (chunks of about 2^17
@@ -162,6 +107,7 @@ static hid_t dataset_plist(int rank, const hsize_t *dims, hsize_t total)
     return pl;
 }
 
+/* Writes one dataset (0, or -1 on failure) and reports the progress. */
 static int dataset_write(writer *w, hid_t loc, const char *name,
                          hid_t file_type, hid_t mem_type, int rank,
                          const hsize_t *dims, const void *data)
@@ -169,21 +115,14 @@ static int dataset_write(writer *w, hid_t loc, const char *name,
     hsize_t total = 1;
     for (int r = 0; r < rank; r++) total *= dims[r];
     hid_t pl = dataset_plist(rank, dims, total);
-    hid_t space = pl < 0 ? -1 : H5Screate_simple(rank, dims, NULL);
-    hid_t set = space < 0 ? -1
-                          : H5Dcreate2(loc, name, file_type, space,
-                                       H5P_DEFAULT, pl, H5P_DEFAULT);
-    herr_t r = set < 0 ? -1
-               : total == 0 ? 0
-                            : H5Dwrite(set, mem_type, H5S_ALL, H5S_ALL,
-                                       H5P_DEFAULT, data);
-    if (set >= 0 && H5Dclose(set) < 0) r = -1;
-    if (space >= 0) H5Sclose(space);
+    int r = pl < 0 ? -1
+                   : ng_h5_dataset_write(loc, name, file_type, mem_type, rank,
+                                         dims, pl, data);
     if (pl > 0 && pl != H5P_DEFAULT) H5Pclose(pl);
     w->done += (double)total;
     if (w->progress && w->total > 0.0 && w->done < w->total)
         w->progress("writing", w->done / w->total, w->ctx);
-    return r < 0 ? -1 : 0;
+    return r;
 }
 
 static int write_doubles(writer *w, hid_t loc, const char *name, int rank,
@@ -198,11 +137,6 @@ static int write_int64s(writer *w, hid_t loc, const char *name, int rank,
 {
     return dataset_write(w, loc, name, H5T_STD_I64LE, H5T_NATIVE_INT64, rank,
                          dims, data);
-}
-
-static hid_t group_create(hid_t loc, const char *name)
-{
-    return H5Gcreate2(loc, name, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
 }
 
 /* Data elements of one diagram, for the progress fraction. */
@@ -221,7 +155,7 @@ static int write_diagram(writer *w, hid_t loc, const ng_diagram *d)
         const ng_bars *b = &d->bars[k];
         char name[32];
         snprintf(name, sizeof name, "dim%d", k);
-        hid_t g = group_create(loc, name);
+        hid_t g = ng_h5_group_create(loc, name);
         if (g < 0) return -1;
         hsize_t dims[2] = {b->count, 2};
         int r = write_doubles(w, g, "bars", 2, dims, b->interval);
@@ -231,7 +165,7 @@ static int write_diagram(writer *w, hid_t loc, const ng_diagram *d)
         dims[1] = (hsize_t)k + 2;
         if (r == 0) r = write_int64s(w, g, "death_vertices", 2, dims,
                                      b->death_vertices);
-        if (r == 0) r = attr_int(g, "truncated", (int64_t)b->truncated);
+        if (r == 0) r = ng_h5_attr_int(g, "truncated", (int64_t)b->truncated);
         H5Gclose(g);
         if (r != 0) return -1;
     }
@@ -246,7 +180,7 @@ static double grid_elements(const ng_grid *g)
 
 static int write_grid(writer *w, hid_t file, const ng_grid *g)
 {
-    hid_t grp = group_create(file, "grid");
+    hid_t grp = ng_h5_group_create(file, "grid");
     if (grp < 0) return -1;
     int r = 0;
     hsize_t G = g->G, w0 = (hsize_t)g->max_degree + 1, w1 = w0 + 1;
@@ -272,7 +206,7 @@ static int write_grid(writer *w, hid_t file, const ng_grid *g)
 
 static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
 {
-    hid_t grp = group_create(file, "divergence");
+    hid_t grp = ng_h5_group_create(file, "divergence");
     if (grp < 0) return -1;
     int r = 0;
     hsize_t n = (hsize_t)rec->max_degree + 1;
@@ -280,13 +214,15 @@ static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
     r |= write_doubles(w, grp, "wasserstein1", 1, &n, rec->wasserstein1);
     r |= write_doubles(w, grp, "wasserstein2", 1, &n, rec->wasserstein2);
     if (rec->grid) {
-        r |= attr_double(grp, "factor_bound", rec->grid->factor_bound);
-        r |= attr_double(grp, "shift_bound", rec->grid->shift_bound);
-        r |= attr_double(grp, "factor_bound_at", rec->grid->factor_bound_at);
-        r |= attr_double(grp, "shift_bound_at", rec->grid->shift_bound_at);
+        r |= ng_h5_attr_double(grp, "factor_bound", rec->grid->factor_bound);
+        r |= ng_h5_attr_double(grp, "shift_bound", rec->grid->shift_bound);
+        r |= ng_h5_attr_double(grp, "factor_bound_at",
+                               rec->grid->factor_bound_at);
+        r |= ng_h5_attr_double(grp, "shift_bound_at",
+                               rec->grid->shift_bound_at);
     }
-    r |= attr_double(grp, "wasserstein_relative_error",
-                     rec->wasserstein_relative_error);
+    r |= ng_h5_attr_double(grp, "wasserstein_relative_error",
+                           rec->wasserstein_relative_error);
     H5Gclose(grp);
     return r ? -1 : 0;
 }
@@ -294,16 +230,16 @@ static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
 /* /job: which job of a batch this file answers (job.h, manifest.h). */
 static int write_job(writer *w, hid_t file, const ng_run_record *rec)
 {
-    hid_t g = group_create(file, "job");
+    hid_t g = ng_h5_group_create(file, "job");
     if (g < 0) return -1;
-    int r = attr_string(g, "id", rec->job_id);
-    r |= attr_string(g, "parameters",
-                     rec->job_parameters ? rec->job_parameters : "");
+    int r = ng_h5_attr_string(g, "id", rec->job_id);
+    r |= ng_h5_attr_string(g, "parameters",
+                           rec->job_parameters ? rec->job_parameters : "");
     if (rec->subsample_of) {
         hsize_t n = rec->n_points;
-        r |= attr_string(g, "subsample_of", rec->subsample_of);
-        r |= attr_int(g, "subsample_index", rec->subsample_index);
-        r |= attr_int(g, "subsample_seed", (int64_t)rec->subsample_seed);
+        r |= ng_h5_attr_string(g, "subsample_of", rec->subsample_of);
+        r |= ng_h5_attr_int(g, "subsample_index", rec->subsample_index);
+        r |= ng_h5_attr_int(g, "subsample_seed", (int64_t)rec->subsample_seed);
         r |= write_int64s(w, g, "subsample_points", 1, &n,
                           rec->subsample_points);
     }
@@ -324,25 +260,25 @@ static double seconds_since(const struct timespec *t0)
 static int write_provenance(hid_t file, const ng_run_record *rec,
                             const struct timespec *start)
 {
-    hid_t grp = group_create(file, "provenance");
+    hid_t grp = ng_h5_group_create(file, "provenance");
     if (grp < 0) return -1;
     int r = 0;
     unsigned major = 0, minor = 0, release = 0;
     char text[256];
     H5get_libversion(&major, &minor, &release);
     snprintf(text, sizeof text, "%u.%u.%u", major, minor, release);
-    r |= attr_string(grp, "hdf5_version", text);
-    r |= attr_int(grp, "threads", rec->threads);
-    r |= attr_int(grp, "peak_memory_bytes", rec->peak_memory_bytes);
+    r |= ng_h5_attr_string(grp, "hdf5_version", text);
+    r |= ng_h5_attr_int(grp, "threads", rec->threads);
+    r |= ng_h5_attr_int(grp, "peak_memory_bytes", rec->peak_memory_bytes);
     time_t now = time(NULL);
     struct tm utc;
     if (gmtime_r(&now, &utc) == NULL ||
         strftime(text, sizeof text, "%Y-%m-%dT%H:%M:%SZ", &utc) == 0)
         text[0] = '\0';
-    r |= attr_string(grp, "created", text);
+    r |= ng_h5_attr_string(grp, "created", text);
     if (gethostname(text, sizeof text) != 0) text[0] = '\0';
     text[sizeof text - 1] = '\0';
-    r |= attr_string(grp, "host", text);
+    r |= ng_h5_attr_string(grp, "host", text);
 
     /* one attribute per stage, listed in creation order by readers */
     hid_t pl = H5Pcreate(H5P_GROUP_CREATE);
@@ -356,13 +292,13 @@ static int write_provenance(hid_t file, const ng_run_record *rec,
     double total = 0.0;
     if (st < 0) r = -1;
     for (int i = 0; r == 0 && i < rec->n_stages; i++) {
-        r |= attr_double(st, rec->stage_names[i], rec->stage_seconds[i]);
+        r |= ng_h5_attr_double(st, rec->stage_names[i], rec->stage_seconds[i]);
         total += rec->stage_seconds[i];
     }
     double writing = seconds_since(start);
-    if (r == 0) r |= attr_double(st, "writing", writing);
+    if (r == 0) r |= ng_h5_attr_double(st, "writing", writing);
     if (st >= 0) H5Gclose(st);
-    r |= attr_double(grp, "wall_seconds", total + writing);
+    r |= ng_h5_attr_double(grp, "wall_seconds", total + writing);
     H5Gclose(grp);
     return r ? -1 : 0;
 }
@@ -382,27 +318,27 @@ static int write_all(hid_t file, const ng_run_record *rec,
 
     hid_t root = H5Gopen2(file, "/", H5P_DEFAULT);
     if (root < 0) return -1;
-    r |= attr_string(root, "format", NG_RESULTS_FORMAT);
-    r |= attr_int(root, "format_version", NG_RESULTS_FORMAT_VERSION);
-    r |= attr_string(root, "tool_version", NG_VERSION);
-    r |= attr_string(root, "command", rec->command ? rec->command : "");
+    r |= ng_h5_attr_string(root, "format", NG_RESULTS_FORMAT);
+    r |= ng_h5_attr_int(root, "format_version", NG_RESULTS_FORMAT_VERSION);
+    r |= ng_h5_attr_string(root, "tool_version", NG_VERSION);
+    r |= ng_h5_attr_string(root, "command", rec->command ? rec->command : "");
     H5Gclose(root);
     if (r) return -1;
 
-    hid_t g = group_create(file, "input");
+    hid_t g = ng_h5_group_create(file, "input");
     if (g < 0) return -1;
-    r |= attr_string(g, "source", rec->source);
-    r |= attr_string(g, "file", rec->input_file ? rec->input_file : "");
-    r |= attr_string(g, "sha256",
-                     rec->input_sha256 ? rec->input_sha256 : "");
-    r |= attr_int(g, "bytes", (int64_t)rec->input_bytes);
-    r |= attr_int(g, "n_points", (int64_t)rec->n_points);
-    r |= attr_int(g, "ambient_dim", (int64_t)rec->ambient_dim);
-    r |= attr_string(g, "metric", rec->metric);
+    r |= ng_h5_attr_string(g, "source", rec->source);
+    r |= ng_h5_attr_string(g, "file", rec->input_file ? rec->input_file : "");
+    r |= ng_h5_attr_string(g, "sha256",
+                           rec->input_sha256 ? rec->input_sha256 : "");
+    r |= ng_h5_attr_int(g, "bytes", (int64_t)rec->input_bytes);
+    r |= ng_h5_attr_int(g, "n_points", (int64_t)rec->n_points);
+    r |= ng_h5_attr_int(g, "ambient_dim", (int64_t)rec->ambient_dim);
+    r |= ng_h5_attr_string(g, "metric", rec->metric);
     H5Gclose(g);
     if (r) return -1;
 
-    g = group_create(file, "vertices");
+    g = ng_h5_group_create(file, "vertices");
     if (g < 0) return -1;
     hsize_t n = rec->n_points;
     r |= write_doubles(w, g, "radius", 1, &n, rec->radius);
@@ -410,41 +346,42 @@ static int write_all(hid_t file, const ng_run_record *rec,
     H5Gclose(g);
     if (r) return -1;
 
-    g = group_create(file, "scheme");
+    g = ng_h5_group_create(file, "scheme");
     if (g < 0) return -1;
-    r |= attr_string(g, "radius_rule", rec->radius_rule);
-    r |= attr_string(g, "law", rec->law);
-    r |= attr_double(g, "scale_limit", rec->scale_limit);
-    r |= attr_int(g, "scale_auto", rec->scale_auto ? 1 : 0);
-    r |= attr_double(g, "full_scale", rec->full_scale);
-    r |= attr_int(g, "limited_by_budget", rec->limited_by_budget ? 1 : 0);
-    r |= attr_int(g, "max_degree", rec->max_degree);
-    r |= attr_int(g, "truncated", rec->truncated ? 1 : 0);
+    r |= ng_h5_attr_string(g, "radius_rule", rec->radius_rule);
+    r |= ng_h5_attr_string(g, "law", rec->law);
+    r |= ng_h5_attr_double(g, "scale_limit", rec->scale_limit);
+    r |= ng_h5_attr_int(g, "scale_auto", rec->scale_auto ? 1 : 0);
+    r |= ng_h5_attr_double(g, "full_scale", rec->full_scale);
+    r |= ng_h5_attr_int(g, "limited_by_budget",
+                        rec->limited_by_budget ? 1 : 0);
+    r |= ng_h5_attr_int(g, "max_degree", rec->max_degree);
+    r |= ng_h5_attr_int(g, "truncated", rec->truncated ? 1 : 0);
     H5Gclose(g);
     if (r) return -1;
 
     static const char *names[2] = {"cech", "rips"};
     for (int j = 0; j < 2 && j < p->n_filtrations; j++) {
-        g = group_create(file, names[j]);
+        g = ng_h5_group_create(file, names[j]);
         if (g < 0) return -1;
         r = write_diagram(w, g, &p->diagram[j]);
         H5Gclose(g);
         if (r) return -1;
     }
     if (rec->n_slices > 0) {
-        g = group_create(file, "slices");
+        g = ng_h5_group_create(file, "slices");
         if (g < 0) return -1;
         hsize_t L = (hsize_t)rec->n_slices;
         r |= write_doubles(w, g, "values", 1, &L, rec->slice_values);
         if (r == 0) {
             hid_t v = H5Dopen2(g, "values", H5P_DEFAULT);
-            r |= v < 0 ? -1 : attr_string(v, "kind", rec->slice_kind);
+            r |= v < 0 ? -1 : ng_h5_attr_string(v, "kind", rec->slice_kind);
             if (v >= 0) H5Dclose(v);
         }
         for (int s = 0; r == 0 && s < rec->n_slices; s++) {
             char name[32];
             snprintf(name, sizeof name, "%d", s);
-            hid_t sg = group_create(g, name);
+            hid_t sg = ng_h5_group_create(g, name);
             if (sg < 0) {
                 r = -1;
                 break;
@@ -472,10 +409,8 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
                             "results: %d filtrations for %d slices",
                             p->n_filtrations, rec->n_slices);
     }
-    H5E_auto2_t old_func;
-    void *old_data;
-    H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
-    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+    ng_h5_quiet quiet;
+    ng_h5_quiet_begin(&quiet);
     int status = NG_OK;
     writer w = {f->progress, f->progress_ctx, 0.0, 0.0};
     hid_t file = H5Fcreate(f->temp_path, H5F_ACC_TRUNC, H5P_DEFAULT,
@@ -492,7 +427,7 @@ int ng_results_commit(ng_results_file *f, const ng_run_record *rec,
                                   "%s: writing the results failed (disk "
                                   "full?)", f->final_path);
     }
-    H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
+    ng_h5_quiet_end(&quiet);
     if (status == NG_OK && rename(f->temp_path, f->final_path) != 0)
         status = ng_error_set(err, NG_ERR_IO, "%s: cannot rename %s onto it: "
                               "%s", f->final_path, f->temp_path,

@@ -10,6 +10,7 @@
 #include "nervegap/results.h"
 
 #include "alloc.h"
+#include "h5util.h"
 
 #include <errno.h>
 #include <hdf5.h>
@@ -37,20 +38,13 @@ static int nomem(loader *L, const char *object)
                         L->path, object);
 }
 
-/* 1 when the object at the absolute path exists (every component is
- * checked, as HDF5 1.10 fails on a missing intermediate group). */
+/* 1 when the object at the absolute path exists (0 for a path too long
+ * for any object of a results file). */
 static int exists(loader *L, const char *object)
 {
-    char part[256];
-    size_t len = strlen(object);
-    if (len >= sizeof part) return 0;
-    for (size_t i = 1; i <= len; i++) {
-        if (object[i] != '/' && object[i] != '\0') continue;
-        memcpy(part, object, i);
-        part[i] = '\0';
-        if (H5Lexists(L->file, part, H5P_DEFAULT) <= 0) return 0;
-    }
-    return 1;
+    char missing[256];
+    return strlen(object) < sizeof missing &&
+           ng_h5_path_exists(L->file, object, missing, sizeof missing);
 }
 
 /* Opens the attribute name of object; -1 with *status set when it is
@@ -642,10 +636,8 @@ int ng_results_load(const char *path, ng_results **out, ng_error *err)
                             strerror(e));
     }
     fclose(probe);
-    H5E_auto2_t old_func;
-    void *old_data;
-    H5Eget_auto2(H5E_DEFAULT, &old_func, &old_data);
-    H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
+    ng_h5_quiet quiet;
+    ng_h5_quiet_begin(&quiet);
     int status;
     hid_t file = H5Fis_hdf5(path) > 0
                      ? H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT)
@@ -659,7 +651,7 @@ int ng_results_load(const char *path, ng_results **out, ng_error *err)
         status = load_open(&L, r);
         H5Fclose(file);
     }
-    H5Eset_auto2(H5E_DEFAULT, old_func, old_data);
+    ng_h5_quiet_end(&quiet);
     if (status != NG_OK) {
         ng_results_free(r);
         return status;

@@ -22,6 +22,8 @@
 #include "scale_limit.h"
 
 #include "alloc.h"
+#include "order.h"
+#include "radius_internal.h"
 #include "rips_graph.h"
 #include "nervegap/distance.h"
 
@@ -214,12 +216,6 @@ static double complete_count(size_t n, int top)
     return total;
 }
 
-static int double_cmp(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* A positive starting scale for the search: the median over points of the
  * Rips edge value to the nearest other point (its own birth if larger). */
 static int start_scale(const ng_space *s, int threads, double *out,
@@ -233,27 +229,16 @@ static int start_scale(const ng_space *s, int threads, double *out,
         status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
         goto cleanup;
     }
-    if (s->metric == NG_METRIC_GIVEN) {
-        for (size_t i = 0; i < n; i++) {
-            double best = INFINITY;
-            size_t arg = i == 0 ? 1 : 0;
-            for (size_t j = 0; j < n; j++)
-                if (j != i && s->dist[i * n + j] < best) {
-                    best = s->dist[i * n + j];
-                    arg = j;
-                }
-            near[i] = best;
-            idx[i] = (ng_index)arg;
-        }
-    } else {
+    if (s->metric == NG_METRIC_GIVEN)
+        status = ng_knn_given(s->dist, n, 1, threads, near, idx, err);
+    else
         status = ng_knn_all(s->coords, n, s->dim, s->metric, 1, threads,
                             near, idx, err);
-        if (status != NG_OK) goto cleanup;
-    }
+    if (status != NG_OK) goto cleanup;
     for (size_t i = 0; i < n; i++)
         near[i] = ng_rips_edge_value(s->law, s->rho[i], s->rho[idx[i]],
                                      near[i]);
-    qsort(near, n, sizeof *near, double_cmp);
+    qsort(near, n, sizeof *near, ng_order_doubles);
     *out = near[n / 2];
 cleanup:
     ng_free(near);

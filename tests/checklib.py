@@ -1,6 +1,8 @@
 """checklib.py — what the Python checks of tests/ share: a counter of
 checks that prints each failure, the closing 'N passed, N failed' line with
-the exit status, and a runner for the nervegap binary."""
+the exit status, and runners for the nervegap binary."""
+import os
+import pty
 import subprocess
 import sys
 
@@ -28,3 +30,22 @@ def nervegap(binary, *args, timeout=300):
     if p.returncode != 0:
         raise RuntimeError(p.stderr)
     return p.stdout
+
+
+def pty_run(args):
+    """Runs args with stderr on a pseudo-terminal; returns (code, stderr)."""
+    master, slave = pty.openpty()
+    p = subprocess.Popen(args, stdout=subprocess.DEVNULL, stderr=slave, stdin=subprocess.DEVNULL)
+    os.close(slave)
+    seen = b""
+    while True:
+        try:
+            chunk = os.read(master, 4096)
+        except OSError:
+            break
+        if not chunk:
+            break
+        seen += chunk
+    p.wait()
+    os.close(master)
+    return p.returncode, seen.decode(errors="replace")

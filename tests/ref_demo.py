@@ -20,7 +20,6 @@
 Usage: ref_demo.py NERVEGAP SCRIPTS_DIR
 """
 import os
-import pty
 import random
 import re
 import shlex
@@ -32,7 +31,7 @@ import time
 
 import h5py
 import numpy as np
-from checklib import expect, finish
+from checklib import expect, finish, pty_run
 
 NERVEGAP, SCRIPTS = sys.argv[1], sys.argv[2]
 DATA = os.path.join(SCRIPTS, "data", "colony.csv")
@@ -46,25 +45,6 @@ FLAGS = shlex.split(line[len("demo_flags=("):line.rindex(")")])
 def pond_of(point):
     d = [np.hypot(point[0] - cx, point[1] - cy) - r for (cx, cy), r in PONDS]
     return int(np.argmin(np.abs(d)))
-
-
-def pty_run(args):
-    """Runs args with stderr on a pseudo-terminal; returns (code, stderr)."""
-    master, slave = pty.openpty()
-    p = subprocess.Popen(args, stdout=subprocess.DEVNULL, stderr=slave, stdin=subprocess.DEVNULL)
-    os.close(slave)
-    seen = b""
-    while True:
-        try:
-            chunk = os.read(master, 4096)
-        except OSError:
-            break
-        if not chunk:
-            break
-        seen += chunk
-    p.wait()
-    os.close(master)
-    return p.returncode, seen.decode(errors="replace")
 
 
 points = np.loadtxt(DATA, delimiter=",", skiprows=2)

@@ -27,7 +27,6 @@ import io
 import json
 import math
 import os
-import pty
 import shutil
 import subprocess
 import sys
@@ -35,7 +34,7 @@ import tempfile
 
 import h5py
 import numpy as np
-from checklib import expect, finish
+from checklib import expect, finish, pty_run
 
 NERVEGAP, TOOL = sys.argv[1], sys.argv[2]
 
@@ -361,23 +360,8 @@ with tempfile.TemporaryDirectory() as tmp:
     expect("no temporary file left behind", not [n for n in os.listdir(tmp) if "partial" in n], os.listdir(tmp))
 
     # ---- progress on a terminal (a pseudo-terminal as stderr) and --quiet ----
-    master, slave = pty.openpty()
-    p = subprocess.Popen([NERVEGAP, *args[:-1], os.path.join(tmp, "tty.h5")], stdout=subprocess.PIPE,
-                         stderr=slave, stdin=subprocess.DEVNULL)
-    os.close(slave)
-    seen = b""
-    while True:
-        try:
-            chunk = os.read(master, 4096)
-        except OSError:
-            break
-        if not chunk:
-            break
-        seen += chunk
-    p.wait()
-    os.close(master)
-    expect("terminal: run ok", p.returncode == 0, seen.decode(errors="replace"))
-    tty_text = seen.decode(errors="replace")
+    rc, tty_text = pty_run([NERVEGAP, *args[:-1], os.path.join(tmp, "tty.h5")])
+    expect("terminal: run ok", rc == 0, tty_text)
     expect("terminal: every stage ends with a line", all(f"{s:12s} done in" in tty_text for s in stages), tty_text)
     rc, _, err = run(NERVEGAP, *args[:-1], os.path.join(tmp, "quiet.h5"), "--quiet")
     expect("--quiet: nothing on stderr", rc == 0 and err == "", err)

@@ -4,6 +4,8 @@
  * the kernel density against a direct scipy evaluation in ref_radius.py. */
 #include "nervegap/radius.h"
 
+#include "radius_internal.h"
+
 #include <check.h>
 #include <math.h>
 #include <stdio.h>
@@ -275,6 +277,89 @@ START_TEST(k_too_large_and_zero_median)
 }
 END_TEST
 
+/* The line 0, 1, 2, 4 as a distance matrix, with ties, by hand: in the
+ * order (distance, index) the others of
+ *   0: (1, 1) (2, 2) (4, 3)   1: (1, 0) (1, 2) (3, 3)
+ *   2: (1, 1) (2, 0) (2, 3)   4: (2, 2) (3, 1) (4, 0) */
+START_TEST(knn_given_by_hand_with_ties)
+{
+    const double dist[16] = {0, 1, 2, 4, 1, 0, 1, 3,
+                             2, 1, 0, 2, 4, 3, 2, 0};
+    const double want_d[4][3] = {{1, 2, 4}, {1, 1, 3}, {1, 2, 2}, {2, 3, 4}};
+    const ng_index want_j[4][3] = {{1, 2, 3}, {0, 2, 3}, {1, 0, 3},
+                                   {2, 1, 0}};
+    for (size_t k = 1; k <= 3; k++) {
+        double d[12];
+        ng_index j[12];
+        ng_error err;
+        ng_error_clear(&err);
+        ck_assert_int_eq(ng_knn_given(dist, 4, k, 1, d, j, &err), NG_OK);
+        for (size_t i = 0; i < 4; i++)
+            for (size_t r = 0; r < k; r++) {
+                ck_assert_msg(d[i * k + r] == want_d[i][r] &&
+                                  j[i * k + r] == want_j[i][r],
+                              "k %zu point %zu rank %zu: (%g, %u)", k, i, r,
+                              d[i * k + r], (unsigned)j[i * k + r]);
+            }
+    }
+}
+END_TEST
+
+/* Rows of small integer distances (many ties), more than the 256 points
+ * from which the rows are split across threads: the k nearest are the
+ * first k of each row sorted by (distance, index), whatever k and the
+ * number of threads. */
+typedef struct pair { double d; ng_index j; } pair;
+
+static int pair_cmp(const void *a, const void *b)
+{
+    const pair *x = a, *y = b;
+    if (x->d != y->d) return x->d < y->d ? -1 : 1;
+    return (x->j > y->j) - (x->j < y->j);
+}
+
+START_TEST(knn_given_is_the_sorted_row)
+{
+    const size_t n = 300, ks[] = {1, 7, 299};
+    double *dist = malloc(n * n * sizeof *dist);
+    pair *row = malloc(n * sizeof *row);
+    double *d = malloc(n * (n - 1) * sizeof *d);
+    ng_index *j = malloc(n * (n - 1) * sizeof *j);
+    ck_assert(dist && row && d && j);
+    unsigned x = 12345;
+    for (size_t a = 0; a < n; a++)
+        for (size_t b = 0; b <= a; b++) {
+            x = x * 1103515245u + 12345u;
+            double v = a == b ? 0.0 : (double)((x >> 16) % 9);
+            dist[a * n + b] = dist[b * n + a] = v;
+        }
+    for (size_t t = 0; t < 3; t++)
+        for (int threads = 1; threads <= 2; threads++) {
+            size_t k = ks[t];
+            ng_error err;
+            ng_error_clear(&err);
+            ck_assert_int_eq(ng_knn_given(dist, n, k, threads, d, j, &err),
+                             NG_OK);
+            for (size_t i = 0; i < n; i++) {
+                size_t m = 0;
+                for (size_t o = 0; o < n; o++)
+                    if (o != i) row[m++] = (pair){dist[i * n + o],
+                                                  (ng_index)o};
+                qsort(row, m, sizeof *row, pair_cmp);
+                for (size_t r = 0; r < k; r++)
+                    ck_assert_msg(d[i * k + r] == row[r].d &&
+                                      j[i * k + r] == row[r].j,
+                                  "k %zu threads %d point %zu rank %zu", k,
+                                  threads, i, r);
+            }
+        }
+    free(dist);
+    free(row);
+    free(d);
+    free(j);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("radius");
@@ -287,6 +372,8 @@ int main(void)
     tcase_add_test(tc, duplicates_refused_or_merged);
     tcase_add_test(tc, parse_rules);
     tcase_add_test(tc, k_too_large_and_zero_median);
+    tcase_add_test(tc, knn_given_by_hand_with_ties);
+    tcase_add_test(tc, knn_given_is_the_sorted_row);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

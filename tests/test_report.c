@@ -5,6 +5,7 @@
  * against outside references in tests/ref_plot.py. */
 #include "nervegap/report.h"
 #include "nervegap/sha256.h"
+#include "nervegap/summary.h"
 #include "alloc.h"
 #include "results_fixture.h"
 
@@ -235,6 +236,41 @@ START_TEST(every_allocation_failure)
 }
 END_TEST
 
+/* summary.h, shared with nervegap show: digit groups by hand (the demo's
+ * 1 592 578 simplices in README.md) and the longest bars of a small
+ * barcode ranked by hand. */
+START_TEST(summary_pieces_by_hand)
+{
+    char buf[32];
+    ck_assert_str_eq(ng_summary_grouped(0, buf, sizeof buf), "0");
+    ck_assert_str_eq(ng_summary_grouped(999, buf, sizeof buf), "999");
+    ck_assert_str_eq(ng_summary_grouped(1000, buf, sizeof buf), "1 000");
+    ck_assert_str_eq(ng_summary_grouped(1592578, buf, sizeof buf),
+                     "1 592 578");
+    ck_assert_str_eq(ng_summary_grouped(-14574, buf, sizeof buf), "-14 574");
+    ck_assert_int_lt((int)strlen(ng_summary_grouped(1234567, buf, 4)), 4);
+
+    /* lengths 2, 0.5, inf, 2, 2: the bar alive at T, then the three of
+     * length 2 by birth, then the short one */
+    double interval[] = {1, 3, 5, 5.5, 0, INFINITY, 2, 4, 0, 2};
+    ng_bars b = {1, 5, 1, interval, NULL, NULL};
+    const double want[5][2] = {{0, INFINITY}, {0, 2}, {1, 3}, {2, 4},
+                               {5, 5.5}};
+    for (size_t count = 0; count <= 6; count++) {
+        ng_ranked_bar top[6];
+        size_t m = ng_summary_longest(&b, count, top);
+        ck_assert_uint_eq(m, count < 5 ? count : 5);
+        for (size_t i = 0; i < m; i++) {
+            ck_assert_msg(top[i].birth == want[i][0] &&
+                              top[i].death == want[i][1] &&
+                              top[i].length == want[i][1] - want[i][0],
+                          "count %zu, rank %zu: [%g, %g)", count, i,
+                          top[i].birth, top[i].death);
+        }
+    }
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("report");
@@ -244,6 +280,7 @@ int main(void)
     tcase_add_test(tc, options_refused);
     tcase_add_test(tc, save_writes_the_text_or_nothing);
     tcase_add_test(tc, every_allocation_failure);
+    tcase_add_test(tc, summary_pieces_by_hand);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

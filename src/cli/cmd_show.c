@@ -6,6 +6,7 @@
 #include "commands.h"
 #include "args.h"
 #include "nervegap/results.h"
+#include "nervegap/summary.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -20,36 +21,6 @@ static const char show_help[] =
 
 #define SHOW_MAX_BARS 50
 
-typedef struct ranked {
-    double birth, death, length;
-} ranked;
-
-static int longer_first(const void *pa, const void *pb)
-{
-    const ranked *a = pa, *b = pb;
-    if (a->length != b->length) return a->length > b->length ? -1 : 1;
-    return (a->birth > b->birth) - (a->birth < b->birth);
-}
-
-/* The count longest bars of b into top (count returned). */
-static size_t longest(const ng_bars *b, size_t count, ranked *top)
-{
-    size_t m = 0;
-    for (size_t i = 0; i < b->count; i++) {
-        ranked x = {b->interval[2 * i], b->interval[2 * i + 1], 0.0};
-        x.length = x.death - x.birth; /* +inf for bars alive at T */
-        if (m < count) {
-            top[m++] = x;
-        } else if (longer_first(&x, &top[m - 1]) < 0) {
-            top[m - 1] = x;
-        } else {
-            continue;
-        }
-        qsort(top, m, sizeof *top, longer_first);
-    }
-    return m;
-}
-
 /* Characters (not bytes) of a UTF-8 string, for aligned columns. */
 static int utf8_length(const char *s)
 {
@@ -60,8 +31,8 @@ static int utf8_length(const char *s)
 
 static void print_bars(const char *label, const ng_bars *b, size_t count)
 {
-    ranked top[SHOW_MAX_BARS];
-    size_t m = longest(b, count, top);
+    ng_ranked_bar top[SHOW_MAX_BARS];
+    size_t m = ng_summary_longest(b, count, top);
     printf("    %s%*s %6zu bars ", label, 5 - utf8_length(label), "",
            b->count);
     if (m == 0) printf(" -");
@@ -73,21 +44,6 @@ static void print_bars(const char *label, const ng_bars *b, size_t count)
                    top[i].length);
     }
     putchar('\n');
-}
-
-/* "1 234 567" */
-static const char *grouped(long long v, char *buf, size_t size)
-{
-    char digits[32];
-    int n = snprintf(digits, sizeof digits, "%lld", v < 0 ? -v : v);
-    size_t used = 0;
-    if (v < 0 && used + 1 < size) buf[used++] = '-';
-    for (int i = 0; i < n && used + 2 < size; i++) {
-        if (i > 0 && (n - i) % 3 == 0) buf[used++] = ' ';
-        buf[used++] = digits[i];
-    }
-    buf[used] = '\0';
-    return buf;
 }
 
 static const char *memory_text(int64_t bytes, char *buf, size_t size)
@@ -145,18 +101,18 @@ static void show(const ng_results *r, size_t nbars)
         for (int k = 0; k <= D + 1; k++) printf("       dim %d", k);
         printf("\n    Čech              ");
         for (size_t k = 0; k < w1; k++)
-            printf(" %11s", grouped(g->simplices_cech[last * w1 + k], a,
-                                    sizeof a));
+            printf(" %11s", ng_summary_grouped(
+                                g->simplices_cech[last * w1 + k], a, sizeof a));
         printf("\n    Rips              ");
         for (size_t k = 0; k < w1; k++)
-            printf(" %11s", grouped(g->simplices_rips[last * w1 + k], a,
-                                    sizeof a));
+            printf(" %11s", ng_summary_grouped(
+                                g->simplices_rips[last * w1 + k], a, sizeof a));
         long long extra = 0;
         for (size_t k = 0; k < w1; k++)
             extra += g->simplices_rips[last * w1 + k] -
                      g->simplices_cech[last * w1 + k];
         printf("\n    (Rips has %s simplices that Čech does not have at T)\n",
-               grouped(extra, b, sizeof b));
+               ng_summary_grouped(extra, b, sizeof b));
     }
 
     printf("  longest bars [birth, death) length; death inf = alive at T\n");
@@ -168,8 +124,8 @@ static void show(const ng_results *r, size_t nbars)
     for (int j = 0; j < r->n_slices; j++) {
         printf("  slice %s %.4g:", r->slice_kind, r->slice_values[j]);
         for (int k = D >= 1 ? 1 : 0; k <= D; k++) {
-            ranked top[2];
-            size_t m = longest(&r->slices[j].bars[k], 2, top);
+            ng_ranked_bar top[2];
+            size_t m = ng_summary_longest(&r->slices[j].bars[k], 2, top);
             printf("  degree %d", k);
             if (m == 0) printf(" -");
             for (size_t i = 0; i < m; i++)
