@@ -697,9 +697,8 @@ int ng_gather(const char *dir, const char *output, const char *table,
     if (status != NG_OK) goto cleanup;
 
     int fd;
-    status = ng_outfile_create(output, NULL, &temp, &fd, err);
+    status = ng_outfile_create(output, "all.h5", &temp, &fd, err);
     if (status != NG_OK) goto cleanup;
-    (void)fchmod(fd, 0644);
     close(fd);
     g.out = H5Fcreate(temp, H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
     if (g.out >= 0)

@@ -137,6 +137,9 @@ with tempfile.TemporaryDirectory() as tmp:
                    and a["input"].attrs["sha256"] == b["input"].attrs["sha256"])
 
     all_h5, table = os.path.join(tmp, "all.h5"), os.path.join(tmp, "summary.csv")
+    rc, _, e = run("gather", out, "-o", tmp + "/")
+    expect("gather to a directory path: refused at once (exit 2)",
+           rc == 2 and "names a directory" in e, (rc, e))
     rc, _, e = run("gather", out, "-o", all_h5, "--table", table)
     expect("gather complete: exit 0", rc == 0 and "12 of 12 jobs complete" in e, e)
     with open(table) as f:
