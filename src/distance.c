@@ -158,9 +158,18 @@ int ng_wasserstein_distance(const double *a, size_t na, const double *b,
             status = ng_distance_wasserstein_exact(
                 sa.finite, sa.nfinite, sb.finite, sb.nfinite, p, &sum, err);
         } else {
+            /* The smaller diagram bids (the cost is symmetric): on real
+             * Čech/Rips pairs, with many more short Čech bars, bidding
+             * from the Rips side took 5× less time for W1 and 1.4× for
+             * W2 (bench_distance real). */
+            const split *bid = &sa, *obj = &sb;
+            if (sb.nfinite < sa.nfinite) {
+                bid = &sb;
+                obj = &sa;
+            }
             double sum_err, lower;
             status = ng_distance_wasserstein_paths(
-                sa.finite, sa.nfinite, sb.finite, sb.nfinite, p, &sum,
+                bid->finite, bid->nfinite, obj->finite, obj->nfinite, p, &sum,
                 &sum_err, &lower, err);
             bound = ng_distance_relative_bound(p, sum, sum_err, lower, extra,
                                                extra_err);

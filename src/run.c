@@ -195,43 +195,83 @@ static double *bars_cut_at(const ng_diagram *d, int k, double T)
 }
 
 /* Bottleneck and Wasserstein distances between the Čech and Rips
- * diagrams, per degree (DESIGN §2.6). */
+ * diagrams, per degree (DESIGN §2.6). The 3(D + 1) distances are
+ * independent tasks, the costliest first (W2, then W1, of the largest
+ * degrees), shared among the threads; each solver is deterministic, so the
+ * results do not depend on the thread count, and the first error in task
+ * order is the one reported. */
 static int divergence(const ng_persistence *p, ng_run_result *out,
                       const ng_run_options *opt, ng_error *err)
 {
+    enum { KINDS = 3 };
     double T = p->scale_limit;
-    for (int k = 0; k <= p->max_degree; k++) {
-        double *a = bars_cut_at(&p->diagram[0], k, T);
-        double *b = bars_cut_at(&p->diagram[1], k, T);
-        size_t na = p->diagram[0].bars[k].count;
-        size_t nb = p->diagram[1].bars[k].count;
-        int status = NG_OK;
-        double rel1 = 0.0, rel2 = 0.0;
-        if (a == NULL || b == NULL)
-            status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
-        if (status == NG_OK)
-            status = ng_bottleneck_distance(a, na, b, nb, &out->bottleneck[k],
-                                            err);
-        if (status == NG_OK)
-            status = ng_wasserstein_distance(a, na, b, nb, 1.0,
-                                             NG_RUN_WASSERSTEIN_ERROR,
-                                             &out->wasserstein1[k], &rel1,
-                                             err);
-        if (status == NG_OK)
-            status = ng_wasserstein_distance(a, na, b, nb, 2.0,
-                                             NG_RUN_WASSERSTEIN_ERROR,
-                                             &out->wasserstein2[k], &rel2,
-                                             err);
-        ng_free(a);
-        ng_free(b);
-        if (status != NG_OK) return status;
-        if (rel1 > out->wasserstein_relative_error)
-            out->wasserstein_relative_error = rel1;
-        if (rel2 > out->wasserstein_relative_error)
-            out->wasserstein_relative_error = rel2;
-        report(opt, "divergence", (k + 1.0) / (p->max_degree + 1.0));
+    int degrees = p->max_degree + 1, ntask = KINDS * degrees;
+    double *cut[2][NG_COMPLEX_MAX_DIM] = {{NULL}};
+    size_t count[2][NG_COMPLEX_MAX_DIM] = {{0}};
+    int order[KINDS * NG_COMPLEX_MAX_DIM];
+    int status_of[KINDS * NG_COMPLEX_MAX_DIM];
+    double rel[KINDS * NG_COMPLEX_MAX_DIM] = {0};
+    ng_error task_err[KINDS * NG_COMPLEX_MAX_DIM];
+    int status = NG_OK;
+    for (int k = 0; k < degrees; k++)
+        for (int s = 0; s < 2; s++) {
+            count[s][k] = p->diagram[s].bars[k].count;
+            cut[s][k] = bars_cut_at(&p->diagram[s], k, T);
+            if (cut[s][k] == NULL) {
+                status = ng_error_set(err, NG_ERR_NOMEM, "out of memory");
+                goto cleanup;
+            }
+        }
+    /* task t: degree t / KINDS, kind t % KINDS (0 bottleneck, 1 W1, 2 W2);
+     * run in order of decreasing size, W2 before W1 before bottleneck */
+    for (int t = 0; t < ntask; t++) order[t] = t;
+    for (int x = 1; x < ntask; x++)
+        for (int y = x; y > 0; y--) {
+            int t = order[y], u = order[y - 1];
+            size_t st = count[0][t / KINDS] + count[1][t / KINDS];
+            size_t su = count[0][u / KINDS] + count[1][u / KINDS];
+            if (st < su || (st == su && t % KINDS <= u % KINDS)) break;
+            order[y] = u;
+            order[y - 1] = t;
+        }
+    int done = 0;
+#pragma omp parallel for schedule(dynamic, 1) \
+    num_threads(opt->threads > 0 ? opt->threads : omp_get_max_threads())
+    for (int q = 0; q < ntask; q++) {
+        int t = order[q], k = t / KINDS, kind = t % KINDS;
+        const double *a = cut[0][k], *b = cut[1][k];
+        size_t na = count[0][k], nb = count[1][k];
+        ng_error_clear(&task_err[t]);
+        if (kind == 0)
+            status_of[t] = ng_bottleneck_distance(a, na, b, nb,
+                                                  &out->bottleneck[k],
+                                                  &task_err[t]);
+        else
+            status_of[t] = ng_wasserstein_distance(
+                a, na, b, nb, (double)kind, NG_RUN_WASSERSTEIN_ERROR,
+                kind == 1 ? &out->wasserstein1[k] : &out->wasserstein2[k],
+                &rel[t], &task_err[t]);
+#pragma omp critical(ng_run_divergence_progress)
+        {
+            done++;
+            report(opt, "divergence", (double)done / ntask);
+        }
     }
-    return NG_OK;
+    for (int t = 0; t < ntask; t++) {
+        if (status_of[t] != NG_OK) {
+            if (err != NULL) *err = task_err[t];
+            status = status_of[t];
+            goto cleanup;
+        }
+        if (rel[t] > out->wasserstein_relative_error)
+            out->wasserstein_relative_error = rel[t];
+    }
+cleanup:
+    for (int k = 0; k < degrees; k++) {
+        ng_free(cut[0][k]);
+        ng_free(cut[1][k]);
+    }
+    return status;
 }
 
 typedef struct value_ctx {

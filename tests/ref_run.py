@@ -145,8 +145,9 @@ with tempfile.TemporaryDirectory() as tmp:
         with run(path, o, *flags) as f:
             outs.append({name: f[name][:] for name in
                          [f"{g}/dim{k}/{d}" for g in ("cech", "rips", "slices/0") for k in (0, 1, 2)
-                          for d in ("bars", "birth_vertices", "death_vertices")]})
-    expect("threads 1, 2 and 4 give identical bars and simplices",
+                          for d in ("bars", "birth_vertices", "death_vertices")]
+                         + [f"divergence/{d}" for d in ("bottleneck", "wasserstein1", "wasserstein2")]})
+    expect("threads 1, 2 and 4 give identical bars, simplices and divergence",
            all(np.array_equal(outs[0][k], o[k]) for o in outs[1:] for k in outs[0]))
 
     # a large cloud: degree-0 deaths = MST / 2 (scipy), cut just above the
