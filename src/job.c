@@ -224,6 +224,7 @@ int ng_job_execute(const ng_job *job, ng_results_file *out,
         .wasserstein1 = result.wasserstein1,
         .wasserstein2 = result.wasserstein2,
         .wasserstein_relative_error = result.wasserstein_relative_error,
+        .wasserstein_limit = opt.wasserstein_limit,
         .threads = ng_threads_used(opt.threads),
         .peak_memory_bytes = ng_peak_memory_bytes(),
         .job_id = job->id,
@@ -248,6 +249,7 @@ int ng_job_execute(const ng_job *job, ng_results_file *out,
         report->full_scale = result.full_scale;
         report->limited_by_budget = result.limited_by_budget;
         report->simplices = result.size.total;
+        report->wasserstein_skipped = result.wasserstein_skipped;
     }
 
 cleanup:

@@ -30,7 +30,8 @@
 #define ALPHA_DEFAULT 0.05
 #define SEED_DEFAULT 1
 
-/* The keys; the job axes are K_METRIC .. K_BUDGET, after the inputs. */
+/* The keys; the job axes are K_METRIC .. K_WASSERSTEIN_LIMIT, after the
+ * inputs. */
 enum {
     K_INPUT,
     K_DISTANCES,
@@ -45,6 +46,7 @@ enum {
     K_GRID,
     K_MAX_SIMPLICES,
     K_BUDGET,
+    K_WASSERSTEIN_LIMIT,
     K_SUBSAMPLES,
     K_SUBSAMPLE_SIZE,
     K_SEED,
@@ -52,7 +54,7 @@ enum {
     K_COUNT
 };
 #define FIRST_AXIS K_METRIC
-#define LAST_AXIS K_BUDGET
+#define LAST_AXIS K_WASSERSTEIN_LIMIT
 #define N_AXES (LAST_AXIS - FIRST_AXIS + 1)
 
 static const struct {
@@ -66,9 +68,9 @@ static const struct {
     {"merge-duplicates", 1, 0}, {"max-degree", 1, 0},
     {"scale-limit", 1, 0},    {"slices", 1, 0},
     {"grid", 1, 0},           {"max-simplices", 1, 0},
-    {"budget", 1, 0},         {"subsamples", 0, 0},
-    {"subsample-size", 0, 0}, {"seed", 0, 0},
-    {"alpha", 0, 0},
+    {"budget", 1, 0},         {"wasserstein-limit", 1, 0},
+    {"subsamples", 0, 0},     {"subsample-size", 0, 0},
+    {"seed", 0, 0},           {"alpha", 0, 0},
 };
 
 typedef struct value {
@@ -253,6 +255,11 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
             return fail_from(p, line, column, &e);
         snprintf(buf, sizeof buf, "%zu", opt.budget_bytes);
         break;
+    case K_WASSERSTEIN_LIMIT:
+        if (ng_run_parse_wasserstein_limit(raw, &opt, &e) != NG_OK)
+            return fail_from(p, line, column, &e);
+        snprintf(buf, sizeof buf, "%zu", opt.wasserstein_limit);
+        break;
     case K_SUBSAMPLES:
         if (parse_whole(raw, 100000, &whole) != 0 || whole < 1)
             return fail_at(p, line, column, "subsamples '%s': expected a "
@@ -409,8 +416,8 @@ static int parse_line(parser *p, const char *text, size_t start, size_t end,
                        "unknown key '%s' (keys: input, distances, metric, "
                        "radius, law, raw-radius, merge-duplicates, "
                        "max-degree, scale-limit, slices, grid, "
-                       "max-simplices, budget, subsamples, subsample-size, "
-                       "seed, alpha)", word);
+                       "max-simplices, budget, wasserstein-limit, "
+                       "subsamples, subsample-size, seed, alpha)", word);
     value_list *l = &p->list[k];
     if (l->line && !keys[k].repeatable)
         return fail_at(p, line, column, "%s is given twice (first at line "
@@ -457,6 +464,9 @@ static const char *default_text(int k, char *buf, size_t size)
         snprintf(buf, size, "%zu", NG_RUN_DEFAULT_MAX_SIMPLICES);
         return buf;
     case K_BUDGET: return "default";
+    case K_WASSERSTEIN_LIMIT:
+        snprintf(buf, size, "%zu", NG_RUN_DEFAULT_WASSERSTEIN_LIMIT);
+        return buf;
     default: return "";
     }
 }
@@ -484,6 +494,8 @@ static void apply(int k, const char *text, ng_job *job)
     case K_BUDGET:
         if (strcmp(text, "default") != 0)
             ng_run_parse_budget(text, &o->budget_bytes, &e);
+        break;
+    case K_WASSERSTEIN_LIMIT: ng_run_parse_wasserstein_limit(text, o, &e);
         break;
     default: break;
     }

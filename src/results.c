@@ -223,6 +223,8 @@ static int write_divergence(writer *w, hid_t file, const ng_run_record *rec)
     }
     r |= ng_h5_attr_double(grp, "wasserstein_relative_error",
                            rec->wasserstein_relative_error);
+    r |= ng_h5_attr_int(grp, "wasserstein_limit",
+                        (int64_t)rec->wasserstein_limit);
     H5Gclose(grp);
     return r ? -1 : 0;
 }

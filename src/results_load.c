@@ -381,6 +381,9 @@ static int read_divergence(loader *L, ng_results *r)
                                  attrs[i].dst);
         if (status != NG_OK) return status;
     }
+    int status = attr_int(L, "/divergence", "wasserstein_limit", 0,
+                          &r->wasserstein_limit);
+    if (status != NG_OK) return status;
     if (r->has_grid) {
         r->grid.factor_bound = r->factor_bound;
         r->grid.shift_bound = r->shift_bound;

@@ -32,6 +32,7 @@ void ng_run_options_init(ng_run_options *opt)
     opt->budget_bytes = DEFAULT_BUDGET;
     opt->max_simplices = NG_RUN_DEFAULT_MAX_SIMPLICES;
     opt->grid = 128;
+    opt->wasserstein_limit = NG_RUN_DEFAULT_WASSERSTEIN_LIMIT;
 #if defined(_SC_PHYS_PAGES) && defined(_SC_PAGESIZE)
     long pages = sysconf(_SC_PHYS_PAGES), page = sysconf(_SC_PAGESIZE);
     if (pages > 0 && page > 0)
@@ -151,19 +152,37 @@ int ng_run_parse_budget(const char *text, size_t *out, ng_error *err)
     return NG_OK;
 }
 
-int ng_run_parse_count(const char *text, size_t *out, ng_error *err)
+/* A whole number written as an integer or in e-notation into *out, or
+ * NG_ERR_USAGE "FLAG TEXT: expected EXPECTED". */
+static int parse_whole(const char *text, const char *flag,
+                       const char *expected, size_t *out, ng_error *err)
 {
     char *end;
     errno = 0;
     double v = strtod(text, &end);
     if (end == text || *end != '\0' || errno != 0 || !(v >= 0.0) ||
         v >= 1.8e19 || v != floor(v))
-        return ng_error_set(err, NG_ERR_USAGE,
-                            "--max-simplices %s: expected a whole number of "
-                            "simplices such as 20000000 or 2e7 (0: no limit "
-                            "but memory)", text);
+        return ng_error_set(err, NG_ERR_USAGE, "%s %s: expected %s", flag,
+                            text, expected);
     *out = (size_t)v;
     return NG_OK;
+}
+
+int ng_run_parse_count(const char *text, size_t *out, ng_error *err)
+{
+    return parse_whole(text, "--max-simplices",
+                       "a whole number of simplices such as 20000000 or 2e7 "
+                       "(0: no limit but memory)",
+                       out, err);
+}
+
+int ng_run_parse_wasserstein_limit(const char *text, ng_run_options *opt,
+                                   ng_error *err)
+{
+    return parse_whole(text, "--wasserstein-limit",
+                       "a whole number of diagram points such as 50000 or "
+                       "5e4 (0: no limit)",
+                       &opt->wasserstein_limit, err);
 }
 
 void ng_run_result_free(ng_run_result *out)
@@ -195,7 +214,8 @@ static double *bars_cut_at(const ng_diagram *d, int k, double T)
 }
 
 /* Bottleneck and Wasserstein distances between the Čech and Rips
- * diagrams, per degree (DESIGN §2.6). The 3(D + 1) distances are
+ * diagrams, per degree (DESIGN §2.6); W1 and W2 are NaN for the degrees
+ * with a diagram larger than opt->wasserstein_limit. The distances are
  * independent tasks, the costliest first (W2, then W1, of the largest
  * degrees), shared among the threads; each solver is deterministic, so the
  * results do not depend on the thread count, and the first error in task
@@ -208,6 +228,7 @@ static int divergence(const ng_persistence *p, ng_run_result *out,
     int degrees = p->max_degree + 1, ntask = KINDS * degrees;
     double *cut[2][NG_COMPLEX_MAX_DIM] = {{NULL}};
     size_t count[2][NG_COMPLEX_MAX_DIM] = {{0}};
+    int skip[NG_COMPLEX_MAX_DIM] = {0};
     int order[KINDS * NG_COMPLEX_MAX_DIM];
     int status_of[KINDS * NG_COMPLEX_MAX_DIM];
     double rel[KINDS * NG_COMPLEX_MAX_DIM] = {0};
@@ -222,6 +243,15 @@ static int divergence(const ng_persistence *p, ng_run_result *out,
                 goto cleanup;
             }
         }
+    for (int k = 0; k < degrees; k++) {
+        size_t larger = count[0][k] > count[1][k] ? count[0][k] : count[1][k];
+        skip[k] = opt->wasserstein_limit > 0 &&
+                  larger > opt->wasserstein_limit;
+        if (skip[k]) {
+            out->wasserstein1[k] = out->wasserstein2[k] = NAN;
+            out->wasserstein_skipped++;
+        }
+    }
     /* task t: degree t / KINDS, kind t % KINDS (0 bottleneck, 1 W1, 2 W2);
      * run in order of decreasing size, W2 before W1 before bottleneck */
     for (int t = 0; t < ntask; t++) order[t] = t;
@@ -242,7 +272,10 @@ static int divergence(const ng_persistence *p, ng_run_result *out,
         const double *a = cut[0][k], *b = cut[1][k];
         size_t na = count[0][k], nb = count[1][k];
         ng_error_clear(&task_err[t]);
-        if (kind == 0)
+        status_of[t] = NG_OK;
+        if (kind > 0 && skip[k])
+            ; /* over the Wasserstein limit */
+        else if (kind == 0)
             status_of[t] = ng_bottleneck_distance(a, na, b, nb,
                                                   &out->bottleneck[k],
                                                   &task_err[t]);

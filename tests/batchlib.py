@@ -34,7 +34,8 @@ def run_args(p, inp, out):
     if "input" in p:
         a += ["--metric", p["metric"]]
     a += ["--radius", p["radius"], "--law", p["law"], "--max-degree", p["max-degree"],
-          "--scale-limit", p["scale-limit"], "--grid", p["grid"], "--max-simplices", p["max-simplices"]]
+          "--scale-limit", p["scale-limit"], "--grid", p["grid"], "--max-simplices", p["max-simplices"],
+          "--wasserstein-limit", p["wasserstein-limit"]]
     if p["raw-radius"] == "yes":
         a.append("--raw-radius")
     if p["merge-duplicates"] == "yes":

@@ -108,6 +108,8 @@ with tempfile.TemporaryDirectory() as tmp:
                  "--max-degree", "7"], 2, "--max-degree")
     expect_error("run bad slices", ["run", good, "-o", os.path.join(tmp, "x.h5"),
                  "--slices", "factor:0.5"], 2, "--slices")
+    expect_error("run bad Wasserstein limit", ["run", good, "-o", os.path.join(tmp, "x.h5"),
+                 "--wasserstein-limit", "-3"], 2, "--wasserstein-limit -3: expected a whole number")
     expect_error("run bad budget", ["run", good, "-o", os.path.join(tmp, "x.h5"),
                  "--budget", "lots"], 2, "--budget")
     out = os.path.join(tmp, "big.h5")

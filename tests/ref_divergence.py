@@ -156,4 +156,45 @@ with tempfile.TemporaryDirectory() as tmp:
                         expect(f"{trial} {rule} dim{k} log bottleneck <= log Λ",
                                got <= math.log(lam) + 1e-12, f"{got} > {math.log(lam)}")
 
+    # a larger run: unbalanced real diagrams (many more short Čech bars than
+    # Rips ones), solved by shortest paths with the smaller side bidding;
+    # then the same run under a Wasserstein limit below the larger degree-1
+    # diagram: W1, W2 NaN exactly there, everything else unchanged
+    x = rng.uniform(0, 1, size=(500, 2))
+    pc = os.path.join(tmp, "c.csv")
+    np.savetxt(pc, x, delimiter=",", fmt="%.17g")
+    o, ol = os.path.join(tmp, "c.h5"), os.path.join(tmp, "cl.h5")
+    flags = ["--quiet", "--radius", "knn:4", "--scale-limit", "0.08"]
+    nervegap("run", pc, *flags, "-o", o)
+    with h5py.File(o) as f:
+        T = f["scheme"].attrs["scale_limit"]
+        dv = f["divergence"]
+        rel = dv.attrs["wasserstein_relative_error"]
+        a = cut(f["cech/dim1/bars"][:], T)
+        b = cut(f["rips/dim1/bars"][:], T)
+        expect("larger run: unbalanced degree-1 diagrams", len(a) > 2 * len(b) > 40,
+               f"{len(a)} and {len(b)} bars")
+        for p, key in ((1, "wasserstein1"), (2, "wasserstein2")):
+            want = wasserstein_reference(a, b, p)
+            expect(f"larger run {key} = linear_sum_assignment",
+                   abs(dv[key][1] - want) <= max(rel, 1e-12) * want + 1e-14,
+                   f"{dv[key][1]} vs {want}")
+        before = {key: dv[key][:] for key in ("bottleneck", "wasserstein1", "wasserstein2")}
+        sizes = [max(len(f[f"cech/dim{k}/bars"]), len(f[f"rips/dim{k}/bars"])) for k in (0, 1)]
+    limit = len(a) - 1
+    nervegap("run", pc, *flags, "--wasserstein-limit", str(limit), "-o", ol)
+    with h5py.File(ol) as f:
+        dv = f["divergence"]
+        expect("limit recorded", dv.attrs["wasserstein_limit"] == limit)
+        expect("bottleneck unchanged under the limit",
+               np.array_equal(dv["bottleneck"][:], before["bottleneck"]))
+        for key in ("wasserstein1", "wasserstein2"):
+            for k in (0, 1):
+                if sizes[k] > limit:
+                    expect(f"{key} dim{k} NaN over the limit", math.isnan(dv[key][k]))
+                else:
+                    expect(f"{key} dim{k} unchanged under the limit", dv[key][k] == before[key][k])
+    doc = json.loads(nervegap("export", ol, "--format", "json", "--what", "divergence"))
+    expect("export: NaN written as null", doc["wasserstein1"][1] is None and "null" in doc["note"])
+
 finish()

@@ -143,7 +143,7 @@ typedef struct attrs {
     long long format_version, bytes, n_points, ambient_dim, max_degree,
         truncated, scale_auto, limited_by_budget, threads, peak_memory;
     double scale_limit, full_scale, wall_seconds;
-    double bounds[5];
+    double bounds[6]; /* the numbers of /divergence */
     int has_divergence, has_provenance;
 } attrs;
 
@@ -180,11 +180,12 @@ static void print_attrs(const attrs *a)
         putchar('}');
     }
     if (a->has_divergence) {
-        const char *names[5] = {"factor_bound", "shift_bound",
+        const char *names[6] = {"factor_bound", "shift_bound",
                                 "factor_bound_at", "shift_bound_at",
-                                "wasserstein_relative_error"};
+                                "wasserstein_relative_error",
+                                "wasserstein_limit"};
         printf(",\n \"/divergence\": {");
-        for (int i = 0; i < 5; i++) {
+        for (int i = 0; i < 6; i++) {
             printf("%s\"%s\": ", i ? ", " : "", names[i]);
             number(a->bounds[i]);
         }
@@ -248,7 +249,7 @@ static int cmd_write(char **argv)
                r->full_scale, NAN,
                {f.grid.factor_bound, f.grid.shift_bound,
                 f.grid.factor_bound_at, f.grid.shift_bound_at,
-                r->wasserstein_relative_error},
+                r->wasserstein_relative_error, (double)r->wasserstein_limit},
                1, 1};
     printf("{");
     print_attrs(&a);
@@ -302,7 +303,8 @@ static int cmd_load(const char *path)
                (long long)r->peak_memory_bytes, r->scale_limit,
                r->full_scale, r->wall_seconds,
                {r->factor_bound, r->shift_bound, r->factor_bound_at,
-                r->shift_bound_at, r->wasserstein_relative_error},
+                r->shift_bound_at, r->wasserstein_relative_error,
+                (double)r->wasserstein_limit},
                r->has_divergence, r->format_version >= 2};
     printf("{");
     print_attrs(&a);

@@ -56,7 +56,8 @@ START_TEST(cross_product)
                      "input=a.csv\tmetric=euclidean\tradius=knn:8\tlaw=scaled"
                      "\traw-radius=no\tmerge-duplicates=no\tmax-degree=1"
                      "\tscale-limit=2.5\tslices=none\tgrid=128"
-                     "\tmax-simplices=20000000\tbudget=default");
+                     "\tmax-simplices=20000000\tbudget=default"
+                     "\twasserstein-limit=50000");
     ck_assert_str_eq(m->jobs[0].job.parameters, m->jobs[0].parameters);
     ck_assert_str_eq(m->jobs[0].job.id, m->jobs[0].id);
     ck_assert(strncmp(m->jobs[0].id, "a-knn8-scaled-", 14) == 0);

@@ -43,6 +43,7 @@ typedef struct ng_job_report {
     double full_scale;       /* NaN when not computed */
     int limited_by_budget;   /* auto chose T below the full scale */
     size_t simplices;        /* simplices with rips ≤ T, all dimensions */
+    int wasserstein_skipped; /* degrees over the Wasserstein limit */
 } ng_job_report;
 
 /* Runs job and writes its results into out, which the caller created with

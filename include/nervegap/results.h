@@ -22,7 +22,9 @@
  *                     hilbert int64[L][G][D+1] (only with slices)
  *   /divergence/bottleneck, wasserstein1, wasserstein2  float64[D+1];
  *                     attrs factor_bound, shift_bound, factor_bound_at,
- *                     shift_bound_at, wasserstein_relative_error
+ *                     shift_bound_at, wasserstein_relative_error,
+ *                     wasserstein_limit (W1, W2 are NaN for degrees with
+ *                     a diagram of more points)
  *   /job              (jobs of nervegap batch only) attrs id, parameters;
  *                     subsample jobs also subsample_of, subsample_index,
  *                     subsample_seed and subsample_points int64[n]
@@ -80,6 +82,8 @@ typedef struct ng_run_record {
     const double *wasserstein1;
     const double *wasserstein2;
     double wasserstein_relative_error; /* guaranteed bound of the two */
+    uint64_t wasserstein_limit; /* W1, W2 NaN for degrees with a diagram
+                                   larger than this; 0: no limit */
     /* provenance: the writer adds the HDF5 version, the time, the host and
      * a last stage "writing" (its own time up to closing the file) */
     int threads;               /* threads used; 0: not recorded */
@@ -174,6 +178,7 @@ typedef struct ng_results {
     double factor_bound, shift_bound;        /* Λ, Δ */
     double factor_bound_at, shift_bound_at;  /* Rips values attaining them */
     double wasserstein_relative_error;
+    int64_t wasserstein_limit; /* 0: no limit, or absent (format 1) */
     /* /job (files of nervegap batch; absent: job_id NULL, subsample_of
      * NULL, subsample_index 0, subsample_points NULL) */
     char *job_id;

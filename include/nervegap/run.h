@@ -32,6 +32,12 @@
  * about a minute on two cores (bench/README.md, "the main job"). */
 #define NG_RUN_DEFAULT_MAX_SIMPLICES ((size_t)20000000)
 
+/* The default Wasserstein limit: the 1- and 2-Wasserstein distances of a
+ * degree are computed when neither diagram has more points (bench/README.md,
+ * "Diagram distances": real Čech/Rips pairs of 3·10^4 and 6·10^3 points
+ * take seconds, ten times larger ones far more than the rest of the run). */
+#define NG_RUN_DEFAULT_WASSERSTEIN_LIMIT ((size_t)50000)
+
 typedef enum ng_slice_kind {
     NG_SLICE_NONE = 0,
     NG_SLICE_FACTOR,
@@ -50,6 +56,9 @@ typedef struct ng_run_options {
     int n_slices;
     double slice_values[NG_RUN_MAX_SLICES]; /* λ ≥ 1 or δ ≥ 0 */
     size_t grid;           /* G ≥ 2 scales of the per-scale grid (128) */
+    size_t wasserstein_limit; /* W1, W2 of a degree only when both
+                                 diagrams have at most this many points
+                                 (else NaN); 0: always */
     int threads;           /* ≤ 0: the OpenMP default */
     ng_progress_fn progress; /* may be NULL */
     void *progress_ctx;
@@ -83,6 +92,11 @@ NG_API int ng_run_parse_budget(const char *text, size_t *out, ng_error *err);
  * NG_ERR_USAGE naming --max-simplices on error. */
 NG_API int ng_run_parse_count(const char *text, size_t *out, ng_error *err);
 
+/* Parses the text of --wasserstein-limit ("50000", "5e4"; 0: always) into
+ * opt. NG_ERR_USAGE naming the flag on error. */
+NG_API int ng_run_parse_wasserstein_limit(const char *text,
+                                          ng_run_options *opt, ng_error *err);
+
 typedef struct ng_run_result {
     double scale_limit;      /* T used */
     double full_scale;       /* the full scale, or NaN when not computed */
@@ -97,6 +111,9 @@ typedef struct ng_run_result {
     double wasserstein1[NG_COMPLEX_MAX_DIM];
     double wasserstein2[NG_COMPLEX_MAX_DIM];
     double wasserstein_relative_error; /* guaranteed bound of both */
+    /* degrees whose W1, W2 were not computed (NaN) because a diagram had
+     * more than opt->wasserstein_limit points */
+    int wasserstein_skipped;
 } ng_run_result;
 
 /* Relative error allowed to the Wasserstein distances of a run. */

@@ -29,7 +29,9 @@ static const char export_help[] =
     "                  counts of both complexes per degree, the factor and\n"
     "                  shift statistics, the Hilbert function of the slices\n"
     "  --what divergence  per degree: bottleneck, wasserstein1, wasserstein2,\n"
-    "                  with the global factor_bound (Λ) and shift_bound (Δ)\n";
+    "                  with the global factor_bound (Λ) and shift_bound (Δ);\n"
+    "                  wasserstein1, 2 are nan (CSV) or null (JSON) for the\n"
+    "                  degrees over the run's wasserstein_limit\n";
 
 /* ---- bars ---- */
 
@@ -267,7 +269,7 @@ static void divergence_csv(const ng_results *r)
     bounds(r, b);
     printf("degree,bottleneck,wasserstein1,wasserstein2");
     for (int c = 0; c < 4; c++) printf(",%s", bound_names[c]);
-    printf(",wasserstein_relative_error\n");
+    printf(",wasserstein_relative_error,wasserstein_limit\n");
     for (int k = 0; k <= r->max_degree; k++) {
         printf("%d", k);
         const double v[3] = {r->bottleneck[k], r->wasserstein1[k],
@@ -282,7 +284,7 @@ static void divergence_csv(const ng_results *r)
         }
         putchar(',');
         out_csv_number(stdout, r->wasserstein_relative_error);
-        putchar('\n');
+        printf(",%lld\n", (long long)r->wasserstein_limit);
     }
 }
 
@@ -304,7 +306,10 @@ static void divergence_json(const ng_results *r)
     }
     printf(",\n \"wasserstein_relative_error\": ");
     out_json_number(stdout, r->wasserstein_relative_error);
-    printf("}\n");
+    printf(",\n \"wasserstein_limit\": %lld",
+           (long long)r->wasserstein_limit);
+    printf(",\n \"note\": \"wasserstein null: not computed, a diagram has "
+           "more points than wasserstein_limit (0: no limit)\"}\n");
 }
 
 int cmd_export(int argc, char **argv)

@@ -37,6 +37,9 @@ static const char run_help[] =
     "                          a minute on two cores; 0: memory only)\n"
     "  --budget SIZE           memory for the complex and the reduction, e.g.\n"
     "                          4G (default: half the physical memory)\n"
+    "  --wasserstein-limit N   Wasserstein distances of a degree only when\n"
+    "                          both diagrams have at most N points, else NaN\n"
+    "                          (default 50000; 0: always)\n"
     "  --quiet                 no progress lines on stderr\n";
 
 static int fail(progress *prog, const ng_error *err)
@@ -67,7 +70,7 @@ int cmd_run(int argc, char **argv)
     scheme_flags f = {0};
     const char *output = NULL, *max_degree = NULL, *scale_limit = NULL,
                *slices = NULL, *budget = NULL, *grid = NULL,
-               *max_simplices = NULL;
+               *max_simplices = NULL, *wasserstein_limit = NULL;
     int quiet = 0;
     const cli_option table[] = {
         SCHEME_OPTIONS(f),
@@ -78,6 +81,7 @@ int cmd_run(int argc, char **argv)
         {"budget", NULL, 1, &budget, NULL},
         {"max-simplices", NULL, 1, &max_simplices, NULL},
         {"grid", NULL, 1, &grid, NULL},
+        {"wasserstein-limit", NULL, 1, &wasserstein_limit, NULL},
         {"quiet", NULL, 0, NULL, &quiet},
         {NULL, NULL, 0, NULL, NULL},
     };
@@ -112,6 +116,8 @@ int cmd_run(int argc, char **argv)
         ng_run_parse_budget(budget, &opt->budget_bytes, &err);
     if (err.code == NG_OK && max_simplices)
         ng_run_parse_count(max_simplices, &opt->max_simplices, &err);
+    if (err.code == NG_OK && wasserstein_limit)
+        ng_run_parse_wasserstein_limit(wasserstein_limit, opt, &err);
     if (err.code == NG_OK)
         scheme_flags_parse(&f, "run", input, &job.scheme, &opt->threads,
                            &err);
@@ -142,6 +148,14 @@ int cmd_run(int argc, char **argv)
                 report.scale_limit, isnan(report.full_scale) ? "above " : "",
                 isnan(report.full_scale) ? report.scale_limit
                                          : report.full_scale);
+    if (!quiet && report.wasserstein_skipped)
+        fprintf(stderr,
+                "nervegap run: Wasserstein distances not computed (NaN) for "
+                "%d degree%s whose diagrams have more than %zu points "
+                "(--wasserstein-limit; 0 computes them always)\n",
+                report.wasserstein_skipped,
+                report.wasserstein_skipped > 1 ? "s" : "",
+                opt->wasserstein_limit);
     if (!quiet)
         fprintf(stderr, "nervegap run: wrote %s (scale limit %.6g, %zu "
                         "simplices) in %.2f s\n",

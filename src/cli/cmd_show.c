@@ -138,9 +138,16 @@ static void show(const ng_results *r, size_t nbars)
     if (r->has_divergence) {
         printf("  divergence  Čech vs Rips, deaths of inf counted as T\n");
         printf("    degree   bottleneck wasserstein1 wasserstein2\n");
-        for (int k = 0; k <= D; k++)
+        int skipped = 0;
+        for (int k = 0; k <= D; k++) {
             printf("    %-6d %12.6g %12.6g %12.6g\n", k, r->bottleneck[k],
                    r->wasserstein1[k], r->wasserstein2[k]);
+            skipped |= isnan(r->wasserstein1[k]);
+        }
+        if (skipped && r->wasserstein_limit > 0)
+            printf("    (nan: not computed, a diagram has more than %lld "
+                   "points; --wasserstein-limit)\n",
+                   (long long)r->wasserstein_limit);
         printf("  Λ = %.6g  (Rips(t) ⊆ Čech(Λt) for t ≤ T; reached at "
                "t = %.6g)\n", r->factor_bound, r->factor_bound_at);
         printf("  Δ = %.6g  (Rips(t) ⊆ Čech(t + Δ) for t ≤ T; reached at "
