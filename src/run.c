@@ -213,13 +213,51 @@ static double *bars_cut_at(const ng_diagram *d, int k, double T)
     return a;
 }
 
+static int cmp_point(const void *x, const void *y)
+{
+    const double *p = x, *q = y;
+    if (p[0] != q[0]) return p[0] < q[0] ? -1 : 1;
+    return (p[1] > q[1]) - (p[1] < q[1]);
+}
+
+/* The number of points of the larger side of the multiset difference of
+ * the diagrams a (na × 2) and b (nb × 2): what the Wasserstein limit
+ * counts (points with an identical partner cost the solver little; the
+ * degree-0 diagrams of Čech and Rips are equal). *out; NG_ERR_NOMEM. */
+static int unpaired_points(const double *a, size_t na, const double *b,
+                           size_t nb, size_t *out, ng_error *err)
+{
+    double *sa = ng_malloc(na + 1, 2 * sizeof *sa);
+    double *sb = ng_malloc(nb + 1, 2 * sizeof *sb);
+    if (sa == NULL || sb == NULL) {
+        ng_free(sa);
+        ng_free(sb);
+        return ng_error_set(err, NG_ERR_NOMEM, "out of memory");
+    }
+    memcpy(sa, a, na * 2 * sizeof *sa);
+    memcpy(sb, b, nb * 2 * sizeof *sb);
+    qsort(sa, na, 2 * sizeof *sa, cmp_point);
+    qsort(sb, nb, 2 * sizeof *sb, cmp_point);
+    size_t i = 0, j = 0, common = 0;
+    while (i < na && j < nb) {
+        int c = cmp_point(sa + 2 * i, sb + 2 * j);
+        if (c == 0) common++;
+        i += c <= 0;
+        j += c >= 0;
+    }
+    ng_free(sa);
+    ng_free(sb);
+    *out = (na > nb ? na : nb) - common;
+    return NG_OK;
+}
+
 /* Bottleneck and Wasserstein distances between the Čech and Rips
  * diagrams, per degree (DESIGN §2.6); W1 and W2 are NaN for the degrees
- * with a diagram larger than opt->wasserstein_limit. The distances are
- * independent tasks, the costliest first (W2, then W1, of the largest
- * degrees), shared among the threads; each solver is deterministic, so the
- * results do not depend on the thread count, and the first error in task
- * order is the one reported. */
+ * with more than opt->wasserstein_limit unpaired points (above). The
+ * distances are independent tasks, the costliest first (W2, then W1, of
+ * the largest degrees), shared among the threads; each solver is
+ * deterministic, so the results do not depend on the thread count, and the
+ * first error in task order is the one reported. */
 static int divergence(const ng_persistence *p, ng_run_result *out,
                       const ng_run_options *opt, ng_error *err)
 {
@@ -244,9 +282,13 @@ static int divergence(const ng_persistence *p, ng_run_result *out,
             }
         }
     for (int k = 0; k < degrees; k++) {
-        size_t larger = count[0][k] > count[1][k] ? count[0][k] : count[1][k];
-        skip[k] = opt->wasserstein_limit > 0 &&
-                  larger > opt->wasserstein_limit;
+        size_t unpaired = 0;
+        if (opt->wasserstein_limit > 0) {
+            status = unpaired_points(cut[0][k], count[0][k], cut[1][k],
+                                     count[1][k], &unpaired, err);
+            if (status != NG_OK) goto cleanup;
+        }
+        skip[k] = unpaired > opt->wasserstein_limit;
         if (skip[k]) {
             out->wasserstein1[k] = out->wasserstein2[k] = NAN;
             out->wasserstein_skipped++;

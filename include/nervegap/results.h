@@ -23,8 +23,8 @@
  *   /divergence/bottleneck, wasserstein1, wasserstein2  float64[D+1];
  *                     attrs factor_bound, shift_bound, factor_bound_at,
  *                     shift_bound_at, wasserstein_relative_error,
- *                     wasserstein_limit (W1, W2 are NaN for degrees with
- *                     a diagram of more points)
+ *                     wasserstein_limit (W1, W2 are NaN for degrees whose
+ *                     diagrams differ in more points)
  *   /job              (jobs of nervegap batch only) attrs id, parameters;
  *                     subsample jobs also subsample_of, subsample_index,
  *                     subsample_seed and subsample_points int64[n]
@@ -82,8 +82,9 @@ typedef struct ng_run_record {
     const double *wasserstein1;
     const double *wasserstein2;
     double wasserstein_relative_error; /* guaranteed bound of the two */
-    uint64_t wasserstein_limit; /* W1, W2 NaN for degrees with a diagram
-                                   larger than this; 0: no limit */
+    uint64_t wasserstein_limit; /* W1, W2 NaN for degrees whose diagrams
+                                   differ in more points (run.h); 0: no
+                                   limit */
     /* provenance: the writer adds the HDF5 version, the time, the host and
      * a last stage "writing" (its own time up to closing the file) */
     int threads;               /* threads used; 0: not recorded */

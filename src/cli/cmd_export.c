@@ -308,8 +308,8 @@ static void divergence_json(const ng_results *r)
     out_json_number(stdout, r->wasserstein_relative_error);
     printf(",\n \"wasserstein_limit\": %lld",
            (long long)r->wasserstein_limit);
-    printf(",\n \"note\": \"wasserstein null: not computed, a diagram has "
-           "more points than wasserstein_limit (0: no limit)\"}\n");
+    printf(",\n \"note\": \"wasserstein null: not computed, the diagrams "
+           "differ in more points than wasserstein_limit (0: no limit)\"}\n");
 }
 
 int cmd_export(int argc, char **argv)

@@ -38,7 +38,8 @@ static const char run_help[] =
     "  --budget SIZE           memory for the complex and the reduction, e.g.\n"
     "                          4G (default: half the physical memory)\n"
     "  --wasserstein-limit N   Wasserstein distances of a degree only when\n"
-    "                          both diagrams have at most N points, else NaN\n"
+    "                          at most N points of either diagram have no\n"
+    "                          identical point in the other, else NaN\n"
     "                          (default 50000; 0: always)\n"
     "  --quiet                 no progress lines on stderr\n";
 
@@ -151,7 +152,7 @@ int cmd_run(int argc, char **argv)
     if (!quiet && report.wasserstein_skipped)
         fprintf(stderr,
                 "nervegap run: Wasserstein distances not computed (NaN) for "
-                "%d degree%s whose diagrams have more than %zu points "
+                "%d degree%s whose diagrams differ in more than %zu points "
                 "(--wasserstein-limit; 0 computes them always)\n",
                 report.wasserstein_skipped,
                 report.wasserstein_skipped > 1 ? "s" : "",

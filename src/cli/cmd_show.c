@@ -145,8 +145,8 @@ static void show(const ng_results *r, size_t nbars)
             skipped |= isnan(r->wasserstein1[k]);
         }
         if (skipped && r->wasserstein_limit > 0)
-            printf("    (nan: not computed, a diagram has more than %lld "
-                   "points; --wasserstein-limit)\n",
+            printf("    (nan: not computed, the diagrams differ in more "
+                   "than %lld points; --wasserstein-limit)\n",
                    (long long)r->wasserstein_limit);
         printf("  Λ = %.6g  (Rips(t) ⊆ Čech(Λt) for t ≤ T; reached at "
                "t = %.6g)\n", r->factor_bound, r->factor_bound_at);
