@@ -522,11 +522,13 @@ static void id_part(char *id, size_t size, const char *s, size_t len,
     id[used] = '\0';
 }
 
-/* "stem-radius-law[-sI]-hash" */
+/* "stem-radius-law[-sI]-hash". The readable prefix is cut where it would
+ * leave no room for '-' and the ID_HASH_DIGITS digits of the hash, so that
+ * every id ends with the whole hash. */
 static void make_id(ng_manifest_job *mj, const char *radius, const char *law)
 {
     char *id = mj->id;
-    size_t size = sizeof mj->id;
+    size_t size = sizeof mj->id - 1 - ID_HASH_DIGITS; /* of the prefix */
     id[0] = '\0';
     const char *in = mj->input;
     size_t flen = ng_cloud_spec_file_length(in);
@@ -565,7 +567,8 @@ static void make_id(ng_manifest_job *mj, const char *radius, const char *law)
     size_t used = strlen(id);
     id[used++] = '-';
     for (int i = 0; i < ID_HASH_DIGITS / 2; i++)
-        used += (size_t)snprintf(id + used, size - used, "%02x", digest[i]);
+        used += (size_t)snprintf(id + used, sizeof mj->id - used, "%02x",
+                                 digest[i]);
 }
 
 /* Builds job j of m: input value in (is_dist: a distance matrix), the

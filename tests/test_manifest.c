@@ -6,6 +6,7 @@
 #include "nervegap/batch.h"
 #include "nervegap/job.h"
 #include "nervegap/manifest.h"
+#include "nervegap/sha256.h"
 
 #include <check.h>
 #include <math.h>
@@ -140,6 +141,43 @@ START_TEST(distance_inputs)
     ck_assert_int_eq(m->jobs[2].job.distances, 1);
     ck_assert_int_eq(m->jobs[2].job.scheme.metric, NG_METRIC_GIVEN);
     ck_assert(strstr(m->jobs[2].parameters, "distances=d.npy\tmetric=given"));
+    ng_manifest_free(m);
+}
+END_TEST
+
+/* Long names cut the readable prefix, never the hash: a 24-letter stem, a
+ * dataset, a 16-letter radius and a subsample once made prefixes so long
+ * that the hash digits were cut or written past the id (found by
+ * tests/fuzz/fuzz_manifest.c). Every id is the 50-byte prefix, '-' and the
+ * first 12 hex digits of the SHA-256 of its parameters. */
+START_TEST(long_ids)
+{
+    ng_error err;
+    ng_manifest *m = parse("input abcdefghijklmnopqrstuvwxyz.h5:/group/"
+                           "ABCDEFGHIJKLMNOP\n"
+                           "radius column:ABCDEFGHIJKLMNOPQRST\n"
+                           "law shifted\nsubsamples 2\nsubsample-size 5\n",
+                           &err);
+    ck_assert_msg(m != NULL, "%s", err.message);
+    ck_assert_uint_eq(m->n_jobs, 3);
+    for (size_t j = 0; j < m->n_jobs; j++) {
+        const char *id = m->jobs[j].id;
+        ck_assert_uint_eq(strlen(id), NG_JOB_ID_MAX - 1);
+        ck_assert_msg(strncmp(id, "abcdefghijklmnopqrstuvwx_ABCDEFGHIJKL-"
+                                  "columnABCDEF-", 51) == 0, "%s", id);
+        unsigned char digest[32];
+        ng_sha256 h;
+        ng_sha256_init(&h);
+        ng_sha256_update(&h, m->jobs[j].parameters,
+                         strlen(m->jobs[j].parameters));
+        ng_sha256_final(&h, digest);
+        char hex[13];
+        for (int i = 0; i < 6; i++) snprintf(hex + 2 * i, 3, "%02x", digest[i]);
+        ck_assert_str_eq(id + 51, hex);
+        ck_assert_str_eq(m->jobs[j].job.id, id);
+        if (j > 0) ck_assert_str_eq(m->jobs[j].job.subsample_of, m->jobs[0].id);
+    }
+    ck_assert_str_ne(m->jobs[1].id, m->jobs[2].id);
     ng_manifest_free(m);
 }
 END_TEST
@@ -338,6 +376,7 @@ int main(void)
     tcase_add_test(tc, stable_ids);
     tcase_add_test(tc, subsample_jobs);
     tcase_add_test(tc, distance_inputs);
+    tcase_add_test(tc, long_ids);
     tcase_add_test(tc, errors);
     tcase_add_test(tc, missing_input);
     tcase_add_test(tc, allocation_failures);
