@@ -196,6 +196,9 @@ START_TEST(errors)
         {"input a.csv\nslices factor:0.5\n", "dir/m.txt:2:8:", "slices"},
         {"input a.csv\ngrid 1\n", "dir/m.txt:2:6:", "grid"},
         {"input a.csv\nbudget lots\n", "dir/m.txt:2:8:", "budget"},
+        /* less than a byte: once accepted as budget 0, a canonical text
+         * that does not parse again (found by the fuzz target) */
+        {"input a.csv\nbudget 0.5\n", "dir/m.txt:2:8:", "at least one byte"},
         {"input a.csv\nraw-radius maybe\n", "dir/m.txt:2:12:", "yes or no"},
         {"input \"a.csv\n", "dir/m.txt:1:7:", "closing"},
         {"input \"a\"b.csv\n", "dir/m.txt:1:10:", "space must follow"},
