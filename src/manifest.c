@@ -168,6 +168,9 @@ static int parse_whole(const char *text, unsigned long long max,
     return 0;
 }
 
+/* -0 and 0 are one value, so they get one canonical text ("0"). */
+static double unsigned_zero(double v) { return v == 0.0 ? 0.0 : v; }
+
 /* The canonical text of value raw of key k into *canon (ng_malloc'd). */
 static int canonical(parser *p, int k, const char *raw, int line, int column,
                      char **canon)
@@ -220,7 +223,9 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
         if (ng_run_parse_scale_limit(raw, &opt, &e) != NG_OK)
             return fail_from(p, line, column, &e);
         if (opt.scale_auto) snprintf(buf, sizeof buf, "auto");
-        else snprintf(buf, sizeof buf, "%.17g", opt.scale_limit);
+        else
+            snprintf(buf, sizeof buf, "%.17g",
+                     unsigned_zero(opt.scale_limit));
         break;
     case K_SLICES: {
         if (strcmp(raw, "none") == 0) {
@@ -235,7 +240,8 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
                                            : "shift");
         for (int j = 0; j < opt.n_slices && used < sizeof buf; j++)
             used += (size_t)snprintf(buf + used, sizeof buf - used, "%s%.17g",
-                                     j ? "," : "", opt.slice_values[j]);
+                                     j ? "," : "",
+                                     unsigned_zero(opt.slice_values[j]));
         break;
     }
     case K_GRID:
