@@ -172,10 +172,12 @@ START_TEST(long_ids)
                          strlen(m->jobs[j].parameters));
         ng_sha256_final(&h, digest);
         char hex[13];
-        for (int i = 0; i < 6; i++) snprintf(hex + 2 * i, 3, "%02x", digest[i]);
+        for (int i = 0; i < 6; i++)
+            snprintf(hex + 2 * i, 3, "%02x", digest[i]);
         ck_assert_str_eq(id + 51, hex);
         ck_assert_str_eq(m->jobs[j].job.id, id);
-        if (j > 0) ck_assert_str_eq(m->jobs[j].job.subsample_of, m->jobs[0].id);
+        if (j > 0)
+            ck_assert_str_eq(m->jobs[j].job.subsample_of, m->jobs[0].id);
     }
     ck_assert_str_ne(m->jobs[1].id, m->jobs[2].id);
     ng_manifest_free(m);

@@ -23,8 +23,9 @@
  *   - the canonical text says what runs: a manifest written from the
  *     parameters of one job alone gives exactly that job, same text, same
  *     id (checked for up to ROUND_TRIPS jobs per input).
- * Seeds: the manifests of README.md and tests/test_manifest.c, written by
- * tests/fuzz/seeds.py. */
+ * Seeds (tests/fuzz/seeds.py): the manifest of README.md, those of
+ * tests/test_manifest.c, tests/ref_batch.py and tests/slurm_cluster.py, and
+ * manifests with every key and value form. */
 #include "fuzz_common.h"
 
 #include "nervegap/manifest.h"
@@ -35,7 +36,7 @@
 #include <string.h>
 
 #define NAME "sweeps/m.txt"
-#define DIR "sweeps/"
+#define NAME_DIR "sweeps/"
 #define ID_HASH_DIGITS 12
 
 enum { ROUND_TRIPS = 8, TOP_FIELDS = 12, SUB_FIELDS = 3 };
@@ -102,7 +103,7 @@ static void check_failure(const char *text, size_t len, int rc,
     long length = line_length(text, len, line, &lines);
     if (line < 1 || line > lines + 1)
         fuzz_fail("an error at a line the manifest does not have");
-    if (line == lines + 1 ? column != 1 : column < 1 || column > length)
+    if (line == lines + 1 ? column != 1 : (column < 1 || column > length))
         fuzz_fail("an error at a column outside its line");
 }
 
@@ -118,7 +119,7 @@ static int by_parameters(const void *a, const void *b)
                   (*(const ng_manifest_job *const *)b)->parameters);
 }
 
-/* The jobs of m sorted by id (caller frees). */
+/* Pointers to the jobs of m in the order of cmp (caller frees). */
 static const ng_manifest_job **sorted(const ng_manifest *m,
                                       int (*cmp)(const void *, const void *))
 {
@@ -192,6 +193,15 @@ static void check_id(const ng_manifest_job *mj)
         fuzz_fail("an id whose hash is not that of its parameters");
 }
 
+/* path is input read from the manifest's directory (input itself when
+ * absolute). */
+static int is_resolved(const char *path, const char *input)
+{
+    if (input[0] == '/') return strcmp(path, input) == 0;
+    size_t d = strlen(NAME_DIR);
+    return strncmp(path, NAME_DIR, d) == 0 && strcmp(path + d, input) == 0;
+}
+
 static void check_job(const ng_manifest *m, size_t j)
 {
     const ng_manifest_job *mj = &m->jobs[j];
@@ -200,11 +210,7 @@ static void check_job(const ng_manifest *m, size_t j)
     check_text(mj->parameters, 1, "a canonical text empty or with a "
                "control character");
     check_text(mj->input, 0, "an input empty or with a control character");
-    if (!mj->input_path ||
-        (mj->input[0] == '/'
-             ? strcmp(mj->input_path, mj->input) != 0
-             : strncmp(mj->input_path, DIR, strlen(DIR)) != 0 ||
-                   strcmp(mj->input_path + strlen(DIR), mj->input) != 0))
+    if (!mj->input_path || !is_resolved(mj->input_path, mj->input))
         fuzz_fail("an input path not relative to the manifest directory");
     if (job->input != mj->input_path || job->id != mj->id ||
         job->parameters != mj->parameters)
@@ -231,8 +237,9 @@ static void check_job(const ng_manifest *m, size_t j)
         mj->line != parent->line || mj->column != parent->column)
         fuzz_fail("a subsample job that disagrees with the manifest");
     char tail[128];
-    snprintf(tail, sizeof tail, "\tsubsample=%zu\tsubsample-size=%zu\tseed=%llu",
-             sub, m->subsample_size, (unsigned long long)m->seed);
+    snprintf(tail, sizeof tail,
+             "\tsubsample=%zu\tsubsample-size=%zu\tseed=%llu", sub,
+             m->subsample_size, (unsigned long long)m->seed);
     size_t plen = strlen(parent->parameters);
     if (strncmp(mj->parameters, parent->parameters, plen) != 0 ||
         strcmp(mj->parameters + plen, tail) != 0)
