@@ -34,7 +34,7 @@ seconds=${1:-60}
 shift || true
 targets=("$@")
 if [ ${#targets[@]} -eq 0 ]; then
-    targets=(text npy distances h5path simplices)
+    targets=(text npy distances h5path simplices manifest)
 fi
 CC=clang ng_build build-fuzz -Dfuzz=true -Dtests=false \
     --buildtype=debugoptimized -Db_sanitize=address,undefined -Db_lundef=false

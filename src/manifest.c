@@ -170,6 +170,9 @@ static int parse_whole(const char *text, unsigned long long max,
     return 0;
 }
 
+/* -0 and 0 are one value, so they get one canonical text ("0"). */
+static double unsigned_zero(double v) { return v == 0.0 ? 0.0 : v; }
+
 /* The canonical text of value raw of key k into *canon (ng_malloc'd). */
 static int canonical(parser *p, int k, const char *raw, int line, int column,
                      char **canon)
@@ -222,7 +225,9 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
         if (ng_run_parse_scale_limit(raw, &opt, &e) != NG_OK)
             return fail_from(p, line, column, &e);
         if (opt.scale_auto) snprintf(buf, sizeof buf, "auto");
-        else snprintf(buf, sizeof buf, "%.17g", opt.scale_limit);
+        else
+            snprintf(buf, sizeof buf, "%.17g",
+                     unsigned_zero(opt.scale_limit));
         break;
     case K_SLICES: {
         if (strcmp(raw, "none") == 0) {
@@ -237,7 +242,8 @@ static int canonical(parser *p, int k, const char *raw, int line, int column,
                                            : "shift");
         for (int j = 0; j < opt.n_slices && used < sizeof buf; j++)
             used += (size_t)snprintf(buf + used, sizeof buf - used, "%s%.17g",
-                                     j ? "," : "", opt.slice_values[j]);
+                                     j ? "," : "",
+                                     unsigned_zero(opt.slice_values[j]));
         break;
     }
     case K_GRID:
@@ -534,11 +540,13 @@ static void id_part(char *id, size_t size, const char *s, size_t len,
     id[used] = '\0';
 }
 
-/* "stem-radius-law[-sI]-hash" */
+/* "stem-radius-law[-sI]-hash". The readable prefix is cut where it would
+ * leave no room for '-' and the ID_HASH_DIGITS digits of the hash, so that
+ * every id ends with the whole hash. */
 static void make_id(ng_manifest_job *mj, const char *radius, const char *law)
 {
     char *id = mj->id;
-    size_t size = sizeof mj->id;
+    size_t size = sizeof mj->id - 1 - ID_HASH_DIGITS; /* of the prefix */
     id[0] = '\0';
     const char *in = mj->input;
     size_t flen = ng_cloud_spec_file_length(in);
@@ -577,7 +585,8 @@ static void make_id(ng_manifest_job *mj, const char *radius, const char *law)
     size_t used = strlen(id);
     id[used++] = '-';
     for (int i = 0; i < ID_HASH_DIGITS / 2; i++)
-        used += (size_t)snprintf(id + used, size - used, "%02x", digest[i]);
+        used += (size_t)snprintf(id + used, sizeof mj->id - used, "%02x",
+                                 digest[i]);
 }
 
 /* Builds job j of m: input value in (is_dist: a distance matrix), the

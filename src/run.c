@@ -143,11 +143,12 @@ int ng_run_parse_budget(const char *text, size_t *out, ng_error *err)
     }
     if (scale > 1.0 && (strcmp(end, "iB") == 0 || strcmp(end, "B") == 0))
         end += strlen(end);
-    if (end == text || *end != '\0' || errno != 0 || !(v > 0.0) ||
+    if (end == text || *end != '\0' || errno != 0 || !(v * scale >= 1.0) ||
         v * scale >= 1.8e19)
         return ng_error_set(err, NG_ERR_USAGE,
-                            "--budget %s: expected a memory size such as "
-                            "4G, 512M or 1.5GiB", text);
+                            "--budget %s: expected a memory size of at "
+                            "least one byte such as 4G, 512M or 1.5GiB",
+                            text);
     *out = (size_t)(v * scale);
     return NG_OK;
 }

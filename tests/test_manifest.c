@@ -6,6 +6,7 @@
 #include "nervegap/batch.h"
 #include "nervegap/job.h"
 #include "nervegap/manifest.h"
+#include "nervegap/sha256.h"
 
 #include <check.h>
 #include <math.h>
@@ -145,6 +146,45 @@ START_TEST(distance_inputs)
 }
 END_TEST
 
+/* Long names cut the readable prefix, never the hash: a 24-letter stem, a
+ * dataset, a 16-letter radius and a subsample once made prefixes so long
+ * that the hash digits were cut or written past the id (found by
+ * tests/fuzz/fuzz_manifest.c). Every id is the 50-byte prefix, '-' and the
+ * first 12 hex digits of the SHA-256 of its parameters. */
+START_TEST(long_ids)
+{
+    ng_error err;
+    ng_manifest *m = parse("input abcdefghijklmnopqrstuvwxyz.h5:/group/"
+                           "ABCDEFGHIJKLMNOP\n"
+                           "radius column:ABCDEFGHIJKLMNOPQRST\n"
+                           "law shifted\nsubsamples 2\nsubsample-size 5\n",
+                           &err);
+    ck_assert_msg(m != NULL, "%s", err.message);
+    ck_assert_uint_eq(m->n_jobs, 3);
+    for (size_t j = 0; j < m->n_jobs; j++) {
+        const char *id = m->jobs[j].id;
+        ck_assert_uint_eq(strlen(id), NG_JOB_ID_MAX - 1);
+        ck_assert_msg(strncmp(id, "abcdefghijklmnopqrstuvwx_ABCDEFGHIJKL-"
+                                  "columnABCDEF-", 51) == 0, "%s", id);
+        unsigned char digest[32];
+        ng_sha256 h;
+        ng_sha256_init(&h);
+        ng_sha256_update(&h, m->jobs[j].parameters,
+                         strlen(m->jobs[j].parameters));
+        ng_sha256_final(&h, digest);
+        char hex[13];
+        for (int i = 0; i < 6; i++)
+            snprintf(hex + 2 * i, 3, "%02x", digest[i]);
+        ck_assert_str_eq(id + 51, hex);
+        ck_assert_str_eq(m->jobs[j].job.id, id);
+        if (j > 0)
+            ck_assert_str_eq(m->jobs[j].job.subsample_of, m->jobs[0].id);
+    }
+    ck_assert_str_ne(m->jobs[1].id, m->jobs[2].id);
+    ng_manifest_free(m);
+}
+END_TEST
+
 /* Each bad manifest fails with NAME:LINE:COLUMN and a word of what. */
 START_TEST(errors)
 {
@@ -159,6 +199,9 @@ START_TEST(errors)
         {"input a.csv\nslices factor:0.5\n", "dir/m.txt:2:8:", "slices"},
         {"input a.csv\ngrid 1\n", "dir/m.txt:2:6:", "grid"},
         {"input a.csv\nbudget lots\n", "dir/m.txt:2:8:", "budget"},
+        /* less than a byte: once accepted as budget 0, a canonical text
+         * that does not parse again (found by the fuzz target) */
+        {"input a.csv\nbudget 0.5\n", "dir/m.txt:2:8:", "at least one byte"},
         {"input a.csv\nraw-radius maybe\n", "dir/m.txt:2:12:", "yes or no"},
         {"input \"a.csv\n", "dir/m.txt:1:7:", "closing"},
         {"input \"a\"b.csv\n", "dir/m.txt:1:10:", "space must follow"},
@@ -172,6 +215,9 @@ START_TEST(errors)
         {"input a.csv b.csv a.csv\n", "dir/m.txt:1:19:", "repeats"},
         {"input a.csv\ndistances a.csv\n", "dir/m.txt:2:11:", "repeats"},
         {"input a.csv\nradius knn:4 knn:04\n", "dir/m.txt:2:14:", "repeats"},
+        {"input a.csv\nscale-limit 0 -0\n", "dir/m.txt:2:15:", "repeats"},
+        {"input a.csv\nslices shift:0,1 shift:-0,1.0\n", "dir/m.txt:2:18:",
+         "repeats"},
         {"radius knn:4\n# nothing else\n", "dir/m.txt:3:1:", "no input"},
         {"input a.csv\nsubsamples 4\n", "dir/m.txt:2:1:", "go together"},
         {"input a.csv\nsubsamples 0\n", "dir/m.txt:2:12:", "subsamples"},
@@ -339,6 +385,7 @@ int main(void)
     tcase_add_test(tc, stable_ids);
     tcase_add_test(tc, subsample_jobs);
     tcase_add_test(tc, distance_inputs);
+    tcase_add_test(tc, long_ids);
     tcase_add_test(tc, errors);
     tcase_add_test(tc, missing_input);
     tcase_add_test(tc, allocation_failures);

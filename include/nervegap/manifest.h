@@ -24,10 +24,11 @@
  *
  * Every job has a canonical parameter text — key=value fields separated by
  * tabs, every parameter with its default filled in, numbers in a fixed
- * format — and an id: a readable prefix (input name, radius, law,
- * subsample index) and the first 10 hex digits of the SHA-256 of the
- * canonical text. The id depends on nothing else (not the order of lines,
- * not the other jobs), so reruns and edited manifests keep their ids.
+ * format — and an id of at most NG_JOB_ID_MAX - 1 characters: a readable
+ * prefix (input name, radius, law, subsample index; cut when long), '-'
+ * and the first 12 hex digits of the SHA-256 of the canonical text. The id
+ * depends on nothing else (not the order of lines, not the other jobs), so
+ * reruns and edited manifests keep their ids.
  * Relative paths (inputs, file:PATH radii) are relative to the directory
  * of the manifest.
  */

@@ -87,8 +87,9 @@ NG_API int ng_run_parse_grid(const char *text, ng_run_options *opt,
 NG_API int ng_run_parse_slices(const char *text, ng_run_options *opt,
                                ng_error *err);
 
-/* Parses a memory size: "4G", "512M", "1.5GiB", "1000000" (bytes).
- * NG_ERR_USAGE naming --budget on error. */
+/* Parses a memory size of at least one byte: "4G", "512M", "1.5GiB",
+ * "1000000" (bytes; a fraction of a byte is dropped). NG_ERR_USAGE naming
+ * --budget on error. */
 NG_API int ng_run_parse_budget(const char *text, size_t *out, ng_error *err);
 
 /* Parses a simplex count: "20000000", "2e7" or "0" (no simplex budget).

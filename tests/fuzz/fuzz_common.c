@@ -50,8 +50,10 @@ void fuzz_check_status(int status, const ng_error *err)
         fuzz_fail("a status that is no NG_ERR_* code");
     if (err->code != status) fuzz_fail("status and err->code differ");
     if (err->message[0] == '\0') fuzz_fail("an error without a message");
-    if (memchr(err->message, '\n', strlen(err->message)))
-        fuzz_fail("an error message of more than one line");
+    for (const char *c = err->message; *c; c++)
+        if (((unsigned char)*c < 0x20 && *c != '\t') || *c == 0x7f)
+            fuzz_fail("an error message with a control character (one "
+                      "line, no cursor moves)");
 }
 
 void fuzz_fail(const char *what)

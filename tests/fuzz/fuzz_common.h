@@ -9,7 +9,8 @@
  *
  * A target aborts (which both drivers report) when the library breaks a
  * promise that the fuzzer can observe: a status that is neither NG_OK nor
- * an NG_ERR_* code, an error without a message, a cloud that violates the
+ * an NG_ERR_* code, an error without a message or with a control
+ * character other than tab (error.c), a cloud that violates the
  * invariants of cloud.h.
  */
 #ifndef NERVEGAP_FUZZ_COMMON_H
