@@ -39,7 +39,7 @@
 #define NAME_DIR "sweeps/"
 #define ID_HASH_DIGITS 12
 
-enum { ROUND_TRIPS = 8, TOP_FIELDS = 12, SUB_FIELDS = 3 };
+enum { ROUND_TRIPS = 8, TOP_FIELDS = 13, SUB_FIELDS = 3 };
 
 /* The keys of a canonical text in their order; field 0 is input or
  * distances. */
@@ -48,6 +48,7 @@ static const char *const field_keys[TOP_FIELDS + SUB_FIELDS] = {
     "law",         "raw-radius", "merge-duplicates",
     "max-degree",  "scale-limit", "slices",
     "grid",        "max-simplices", "budget",
+    "wasserstein-limit",
     "subsample",   "subsample-size", "seed",
 };
 

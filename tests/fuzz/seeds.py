@@ -179,6 +179,7 @@ MANIFESTS = [
     b"grid 2 64\n"
     b"max-simplices 0 2e7\n"
     b"budget 4G 512M 1.5GiB 1000000\n"
+    b"wasserstein-limit 0 5e4\n"
     b"seed 18446744073709551615\n"
     b"alpha 0.01\n",
     b"input a.csv\nradius file:radii/r.txt column:0\n",
