@@ -477,8 +477,10 @@ static const char *default_text(int k, char *buf, size_t size)
     }
 }
 
-/* Sets what value text (canonical) of axis key k says in job. */
-static void apply(int k, const char *text, ng_job *job)
+/* Sets what value text (canonical) of axis key k says in job; the status
+ * of parsing it again (canonical texts always parse: anything else is a
+ * bug of canonical()). */
+static int apply(int k, const char *text, ng_job *job)
 {
     ng_error e;
     ng_error_clear(&e);
@@ -505,6 +507,7 @@ static void apply(int k, const char *text, ng_job *job)
         break;
     default: break;
     }
+    return e.code;
 }
 
 /* dir + "/" + path unless path is absolute or dir empty (ng_malloc'd). */
@@ -607,9 +610,18 @@ static int make_job(parser *p, ng_manifest *m, size_t j, const value *in,
     sb_add(&b, "%s=%s", is_dist ? "distances" : "input", in->text);
     for (int k = FIRST_AXIS; k <= LAST_AXIS; k++) {
         const char *text = axis[k - FIRST_AXIS]->text;
-        if (k == K_METRIC && is_dist) text = "given";
+        int given = k == K_METRIC && is_dist; /* set below */
+        if (given) text = "given";
         sb_add(&b, "\t%s=%s", keys[k].name, text);
-        apply(k, text, job);
+        if (!given && apply(k, text, job) != NG_OK) {
+            ng_free(b.s);
+            return ng_error_set(p->err, NG_ERR_RUNTIME,
+                                "%s:%d:%d: internal error: the canonical "
+                                "value '%s' of %s does not parse again",
+                                p->name, axis[k - FIRST_AXIS]->line,
+                                axis[k - FIRST_AXIS]->column, text,
+                                keys[k].name);
+        }
     }
     if (is_dist) job->scheme.metric = NG_METRIC_GIVEN;
     if (sub > 0) {
