@@ -37,6 +37,7 @@
 #include "nervegap/results.h"
 
 #include "distance_internal.h"
+#include "splitmix.h"
 
 #include <math.h>
 #include <stdint.h>
@@ -66,14 +67,7 @@ static int double_cmp(const void *a, const void *b)
 
 static uint64_t state;
 
-static double uniform(void) /* splitmix64 */
-{
-    uint64_t z = (state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    z ^= z >> 31;
-    return (double)(z >> 11) * 0x1.0p-53;
-}
+static double uniform(void) { return ng_splitmix_uniform(&state); }
 
 /* A random diagram of n points and its perturbed copy, or (independent)
  * a second diagram drawn the same way. */

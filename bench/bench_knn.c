@@ -19,6 +19,7 @@
 #include "nervegap/kdtree.h"
 
 #include "kdtree_internal.h"
+#include "splitmix.h"
 
 #include <stdint.h>
 #include <stdio.h>
@@ -51,13 +52,7 @@ static double *uniform_cloud(size_t n, size_t dim)
     double *p = malloc(n * dim * sizeof *p);
     if (p == NULL) return NULL;
     uint64_t state = 20240601u;
-    for (size_t i = 0; i < n * dim; i++) {
-        uint64_t z = (state += 0x9E3779B97F4A7C15u);
-        z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-        z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-        z ^= z >> 31;
-        p[i] = (double)(z >> 11) * 0x1.0p-53;
-    }
+    for (size_t i = 0; i < n * dim; i++) p[i] = ng_splitmix_uniform(&state);
     return p;
 }
 

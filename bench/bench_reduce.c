@@ -23,6 +23,8 @@
 #include "nervegap/complex.h"
 #include "nervegap/persistence.h"
 
+#include "splitmix.h"
+
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -45,14 +47,7 @@ static double now(void)
 
 static uint64_t rng_state = 42;
 
-static double rng_uniform(void) /* splitmix64 */
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    z ^= z >> 31;
-    return (double)(z >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 static int rips_values(const ng_index *v, int m, double *out, void *ctx)
 {

@@ -29,6 +29,8 @@
 #include "nervegap/persistence.h"
 #include "nervegap/values.h"
 
+#include "splitmix.h"
+
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -48,14 +50,7 @@ static double now(void)
 
 static uint64_t rng_state = 2000;
 
-static double rng_uniform(void) /* splitmix64 */
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    z ^= z >> 31;
-    return (double)(z >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 static int cmp_double(const void *a, const void *b)
 {

@@ -12,6 +12,7 @@
 #include "alloc.h"
 #include "nervegap/provenance.h"
 #include "nervegap/sha256.h"
+#include "splitmix.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -31,23 +32,12 @@ void ng_job_init(ng_job *job)
 
 /* ---- subsamples ---- */
 
-/* SplitMix64 (Steele, Lea, Flood, "Fast splittable pseudorandom number
- * generators", OOPSLA 2014): a 64-bit state advanced by a constant and
- * mixed; every seed gives a full-period stream. */
-static uint64_t splitmix64(uint64_t *state)
-{
-    uint64_t z = (*state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    return z ^ (z >> 31);
-}
-
 /* Uniform in [0, bound) without modulo bias (rejection). */
 static uint64_t uniform_below(uint64_t *state, uint64_t bound)
 {
     uint64_t limit = UINT64_MAX - UINT64_MAX % bound;
     for (;;) {
-        uint64_t x = splitmix64(state);
+        uint64_t x = ng_splitmix_next(state);
         if (x < limit) return x % bound;
     }
 }
@@ -73,8 +63,8 @@ int ng_job_subsample_rows(size_t n, size_t m, uint64_t seed, int index,
     /* the stream of (seed, index): the seed's stream, moved on by the
      * index through one more mixing step */
     uint64_t state = seed;
-    uint64_t start = splitmix64(&state) ^ (uint64_t)index;
-    state = splitmix64(&start);
+    uint64_t start = ng_splitmix_next(&state) ^ (uint64_t)index;
+    state = ng_splitmix_next(&start);
     for (size_t i = 0; i < n; i++) perm[i] = (int64_t)i;
     /* the first m steps of a Fisher–Yates shuffle: a uniform m-subset */
     for (size_t i = 0; i < m; i++) {

@@ -12,6 +12,7 @@
 
 #include "alloc.h"
 #include "complex_internal.h"
+#include "splitmix.h"
 
 #include <check.h>
 #include <math.h>
@@ -25,18 +26,9 @@
 
 static uint64_t rng_state;
 
-static uint64_t rng_next(void) /* splitmix64 */
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    return z ^ (z >> 31);
-}
+static uint64_t rng_next(void) { return ng_splitmix_next(&rng_state); }
 
-static double rng_uniform(void)
-{
-    return (double)(rng_next() >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 /* Random graph on n vertices, each pair an edge with probability p; adj
  * is n × n (caller frees), g its CSR form (caller frees with csr_release). */

@@ -14,6 +14,7 @@
 
 #include "alloc.h"
 #include "distance_internal.h"
+#include "splitmix.h"
 
 #include <check.h>
 #include <math.h>
@@ -25,14 +26,7 @@
 
 static uint64_t rng_state;
 
-static double rng_uniform(void)
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    z ^= z >> 31;
-    return (double)(z >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 /* n points: births uniform in [0, 1), lengths uniform in (0, 0.5]; when
  * grid, both on multiples of 0.25 (ties and duplicates). */

@@ -12,6 +12,7 @@
 
 #include "alloc.h"
 #include "kdtree_internal.h"
+#include "splitmix.h"
 
 #include <check.h>
 #include <math.h>
@@ -27,18 +28,9 @@ static const size_t dims[] = {1, 2, 3, 8};
 
 static uint64_t rng_state;
 
-static uint64_t rng_next(void) /* splitmix64 */
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    return z ^ (z >> 31);
-}
+static uint64_t rng_next(void) { return ng_splitmix_next(&rng_state); }
 
-static double rng_uniform(void)
-{
-    return (double)(rng_next() >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 /* n uniform points in [0, 1)^dim. */
 static double *random_cloud(size_t n, size_t dim, uint64_t seed)

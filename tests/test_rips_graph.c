@@ -13,6 +13,7 @@
 #include "nervegap/kdtree.h"
 #include "nervegap/values.h"
 #include "rips_graph.h"
+#include "splitmix.h"
 
 #include <check.h>
 #include <math.h>
@@ -22,14 +23,7 @@
 
 static uint64_t rng_state;
 
-static double rng_uniform(void) /* splitmix64 */
-{
-    uint64_t z = (rng_state += 0x9E3779B97F4A7C15u);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9u;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBu;
-    z ^= z >> 31;
-    return (double)(z >> 11) * 0x1.0p-53;
-}
+static double rng_uniform(void) { return ng_splitmix_uniform(&rng_state); }
 
 typedef struct cloud {
     size_t n, dim;
