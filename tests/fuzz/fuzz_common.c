@@ -62,7 +62,7 @@ void fuzz_fail(const char *what)
     abort();
 }
 
-void fuzz_check_cloud(const ng_cloud *c, int as_distances)
+static void check_cloud(const ng_cloud *c, int as_distances)
 {
     if (!c) fuzz_fail("NG_OK without a cloud");
     if (c->n < 2) fuzz_fail("a cloud of fewer than 2 points");
@@ -86,4 +86,17 @@ void fuzz_check_cloud(const ng_cloud *c, int as_distances)
     if (c->names)
         for (size_t j = 0; j < c->dim; j++)
             if (!c->names[j]) fuzz_fail("a header name is missing");
+}
+
+void fuzz_read_cloud(const char *file, int as_distances)
+{
+    ng_cloud *c = NULL;
+    ng_error err;
+    ng_error_clear(&err);
+    int rc = as_distances ? ng_cloud_read_distances(file, &c, &err)
+                          : ng_cloud_read(file, &c, &err);
+    fuzz_check_status(rc, &err);
+    if (rc == NG_OK) check_cloud(c, as_distances);
+    else if (c) fuzz_fail("a cloud handed out with an error");
+    ng_cloud_free(c);
 }

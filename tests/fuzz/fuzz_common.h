@@ -36,11 +36,11 @@ const char *fuzz_dir(void);
  * convention of common.h. */
 void fuzz_check_status(int status, const ng_error *err);
 
-/* Checks a cloud handed out by a reader against the invariants of
- * cloud.h (as_distances: read by ng_cloud_read_distances); aborts when one
- * is broken. */
-struct ng_cloud;
-void fuzz_check_cloud(const struct ng_cloud *c, int as_distances);
+/* Reads file with ng_cloud_read (as_distances: ng_cloud_read_distances)
+ * and checks the outcome: the status against the error convention, and a
+ * cloud handed out against the invariants of cloud.h (none with an
+ * error); aborts when a promise is broken. Frees the cloud. */
+void fuzz_read_cloud(const char *file, int as_distances);
 
 /* Aborts with a message (a broken promise the fuzzer found). */
 void fuzz_fail(const char *what);

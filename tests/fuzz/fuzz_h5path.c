@@ -10,8 +10,6 @@
  * Seeds: every HDF5 fixture with its dataset paths (tests/fuzz/seeds.py). */
 #include "fuzz_common.h"
 
-#include "nervegap/cloud.h"
-
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -31,16 +29,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     memcpy(spec + head, data, len);
     spec[head + len] = '\0';
     if (strstr(spec + head, "..")) return 0;
-    for (int distances = 0; distances < 2; distances++) {
-        ng_cloud *c = NULL;
-        ng_error err;
-        ng_error_clear(&err);
-        int rc = distances ? ng_cloud_read_distances(spec, &c, &err)
-                           : ng_cloud_read(spec, &c, &err);
-        fuzz_check_status(rc, &err);
-        if (rc == NG_OK) fuzz_check_cloud(c, distances);
-        else if (c) fuzz_fail("a cloud handed out with an error");
-        ng_cloud_free(c);
-    }
+    fuzz_read_cloud(spec, 0);
+    fuzz_read_cloud(spec, 1);
     return 0;
 }
