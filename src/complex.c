@@ -379,11 +379,15 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
     s->bytes_build = b + lists + largest;
     /* degree 0: union-find (4 B a vertex), sorted edges and their sort
      * buffer (32 B), joining marks (4 B); degree k: sorted columns and sort
-     * buffer (32 B), cleared marks (4 B) and reducer records (16 B) per
-     * k-simplex, pivots (4 B) per (k+1)-simplex */
-    size_t r = n * sizeof(uint32_t) + s->count[1] * 36 + 65536 * 8;
+     * buffer (32 B), cleared marks (4 B), reducer records (16 B) and the
+     * apparent-pair pass's column index (4 B) per k-simplex; per
+     * (k+1)-simplex, pivots (4 B) and, when long columns go dense, ranks
+     * (4 B), the sorted entries and their sort buffer (32 B) and the bit
+     * set; the sort's counters (order.c: 2^16 + 1 of 8 B) */
+    size_t sort_counters = ((size_t)1 << 16) * 8 + 8;
+    size_t r = n * sizeof(uint32_t) + s->count[1] * 36 + sort_counters;
     for (int k = 1; k < top_dim; k++) {
-        size_t rk = s->count[k] * 52 + s->count[k + 1] * 4 + 65536 * 8;
+        size_t rk = s->count[k] * 56 + s->count[k + 1] * 41 + sort_counters;
         if (rk > r) r = rk;
     }
     s->bytes_reduce = r;

@@ -64,6 +64,22 @@
  *   an apparent pair, which makes the result the same as one sequential
  *   sweep.
  *
+ *   Long columns. A few columns — classes that live long — sum the
+ *   coboundaries of thousands of columns, and their heaps grow to tens of
+ *   thousands of entries that are pushed and never popped. Such a column
+ *   moves to a dense form: the (k+1)-simplices are ranked in filtration
+ *   order once per degree (a sort), and the column becomes a bit set over
+ *   the ranks with one summary bit per 64-bit word. Adding a cofacet flips
+ *   one bit (mod 2 for free), and since every column added has its pivot
+ *   at the current pivot and the rest later, the pivot only moves forward:
+ *   the next one is the next set bit, found through the summary words.
+ *   The sort is paid for only once long heaps have cost about as much
+ *   (DENSE_AT below). The bars do not depend on the form a column takes.
+ *
+ *   The apparent-pair pass walks the columns in table (position) order,
+ *   not filtration order: the cofacet lists and vertex lists are then read
+ *   in storage order, and the cofacets' values nearly so.
+ *
  *   Threads: with at least as many filtrations as threads, each thread
  *   reduces whole filtrations; with fewer, the filtrations are reduced one
  *   after the other with all threads in their apparent-pair passes.
@@ -78,6 +94,7 @@
 #include "alloc.h"
 #include "complex_internal.h"
 #include "order.h"
+#include "reduce_internal.h"
 
 #include <math.h>
 #include <omp.h>
@@ -118,6 +135,13 @@ typedef struct work {
     size_t heap_n, heap_cap;
     vec32 vcur;    /* V of the column being reduced */
     vec32 vstore;  /* V of the recorded columns */
+    /* the dense form (reduce_dense), built for a degree when first
+     * needed: ranks of the (k+1)-simplices and a bit set over them */
+    int ranked;
+    size_t heavy_pushes, rank_price; /* when to rank (DENSE_AT) */
+    uint32_t *rank, *by_rank;
+    uint64_t *bits, *summary;
+    size_t nwords;
     reducer *red;
     pair *pairs[NG_COMPLEX_MAX_DIM];
     size_t npairs[NG_COMPLEX_MAX_DIM], pairs_cap[NG_COMPLEX_MAX_DIM];
@@ -321,10 +345,169 @@ static int store_reducer(work *w, size_t slot, uint32_t p)
     return 1;
 }
 
+/* ---- dense working column, for columns that grow long ---- */
+
+static void dense_release(work *w)
+{
+    ng_free(w->rank);
+    ng_free(w->by_rank);
+    ng_free(w->bits);
+    ng_free(w->summary);
+    w->rank = w->by_rank = NULL;
+    w->bits = w->summary = NULL;
+    w->ranked = 0;
+    w->heavy_pushes = 0;
+}
+
+/* A working column longer than this many heap entries may move to the
+ * dense form. Ranking costs a sort of the (k+1)-simplices, about as much
+ * per simplex as a heap push into a long column costs (bench_textbook,
+ * bench_run.py): so the sort is paid for only once the pushes made into
+ * long heaps of this degree reach half the number of (k+1)-simplices —
+ * rent until the rent equals half the price, then buy. Short runs with a
+ * few long columns never sort; long ones sort early. */
+#define DENSE_AT 512
+
+static int force_dense; /* reduce_internal.h */
+
+int ng_reduce_force_dense(int on)
+{
+    int was = force_dense;
+    force_dense = on != 0;
+    return was;
+}
+
+/* The ranks of the (k+1)-simplices within T in filtration order: rank[τ]
+ * (NG_POS_NONE outside T) and its inverse by_rank, plus a zero bit set
+ * over the ranks with one summary bit per word. Returns 1, or 0 when out
+ * of memory. */
+static int rank_cofacets(work *w, int k)
+{
+    const double *val = values_of(w, k + 1);
+    size_t cnt = w->c->count[k + 1], m = 0;
+    entry *a = ng_malloc(cnt ? cnt : 1, sizeof *a);
+    w->rank = ng_malloc(cnt ? cnt : 1, sizeof *w->rank);
+    if (a == NULL || w->rank == NULL) {
+        ng_free(a);
+        return 0;
+    }
+    for (size_t q = 0; q < cnt; q++) {
+        w->rank[q] = NG_POS_NONE;
+        if (in_filtration(val[q], w->T)) a[m++] = (entry){val[q], (uint32_t)q};
+    }
+    if (ng_sort_keyed(a, m) != 0) {
+        ng_free(a);
+        return 0;
+    }
+    /* by_rank overwrites the sorted entries from the front: entry r is
+     * read before the bytes 4r.. are written, and 4r ≤ 16r */
+    uint32_t *by_rank = (uint32_t *)(void *)a;
+    for (size_t r = 0; r < m; r++) {
+        uint32_t q = a[r].pos;
+        w->rank[q] = (uint32_t)r;
+        by_rank[r] = q;
+    }
+    uint32_t *shrunk = ng_realloc(a, m ? m : 1, sizeof *by_rank);
+    w->by_rank = shrunk ? shrunk : by_rank;
+    w->nwords = m / 64 + 1;
+    w->bits = ng_calloc(w->nwords, sizeof *w->bits);
+    w->summary = ng_calloc(w->nwords / 64 + 1, sizeof *w->summary);
+    w->ranked = w->bits && w->summary;
+    return w->ranked;
+}
+
+static void dense_flip(work *w, uint32_t r)
+{
+    size_t word = r / 64;
+    uint64_t x = w->bits[word] ^= (uint64_t)1 << (r % 64);
+    uint64_t bit = (uint64_t)1 << (word % 64);
+    if (x)
+        w->summary[word / 64] |= bit;
+    else
+        w->summary[word / 64] &= ~bit;
+}
+
+/* The first set rank ≥ from, or NG_POS_NONE. */
+static uint32_t dense_next(const work *w, uint32_t from)
+{
+    size_t word = from / 64;
+    if (word >= w->nwords) return NG_POS_NONE;
+    uint64_t x = w->bits[word] & (~(uint64_t)0 << (from % 64));
+    if (x) return (uint32_t)(word * 64 + (size_t)__builtin_ctzll(x));
+    size_t s = word / 64, ns = w->nwords / 64 + 1;
+    uint64_t y = w->summary[s] & (word % 64 == 63
+                                      ? 0
+                                      : ~(uint64_t)0 << (word % 64 + 1));
+    while (y == 0) {
+        if (++s >= ns) return NG_POS_NONE;
+        y = w->summary[s];
+    }
+    word = s * 64 + (size_t)__builtin_ctzll(y);
+    return (uint32_t)(word * 64 + (size_t)__builtin_ctzll(w->bits[word]));
+}
+
+/* Clears the bit set (its words are found through the summary). */
+static void dense_clear(work *w)
+{
+    size_t ns = w->nwords / 64 + 1;
+    for (size_t s = 0; s < ns; s++)
+        for (uint64_t y = w->summary[s]; y; y &= y - 1)
+            w->bits[s * 64 + (size_t)__builtin_ctzll(y)] = 0;
+    memset(w->summary, 0, ns * sizeof *w->summary);
+}
+
+static void dense_add_coboundary(work *w, int k, uint32_t q)
+{
+    size_t m;
+    const uint32_t *cof = ng_complex_cofacet_list(w->c, k, q, &m);
+    for (size_t i = 0; i < m; i++) {
+        if (i + PREFETCH_AHEAD < m)
+            __builtin_prefetch(w->rank + cof[i + PREFETCH_AHEAD]);
+        uint32_t r = w->rank[cof[i]];
+        if (r != NG_POS_NONE) dense_flip(w, r);
+    }
+}
+
+/* Finishes the reduction of column i (the k-simplex p) in the dense form,
+ * from the heap's entries; as reduce_column. */
+static int reduce_dense(work *w, int k, size_t i, uint32_t p,
+                        uint32_t *owner, uint32_t *death)
+{
+    if (!w->ranked && !rank_cofacets(w, k)) return 0;
+    for (size_t h = 0; h < w->heap_n; h++)
+        dense_flip(w, w->rank[w->heap[h].pos]);
+    w->heap_n = 0;
+    uint32_t r = 0;
+    for (;;) {
+        r = dense_next(w, r);
+        if (r == NG_POS_NONE) {
+            *death = NG_POS_NONE;
+            break;
+        }
+        uint32_t tau = w->by_rank[r], o = owner[tau];
+        if (o == NG_POS_NONE) {
+            if (!store_reducer(w, i, p)) return 0;
+            owner[tau] = (uint32_t)i;
+            *death = tau;
+            break;
+        }
+        reducer R = w->red[o];
+        dense_add_coboundary(w, k, R.col);
+        if (!vec_push(&w->vcur, R.col)) return 0;
+        for (uint32_t v = 0; v < R.v_len; v++) {
+            uint32_t q = w->vstore.a[R.v_off + v];
+            dense_add_coboundary(w, k, q);
+            if (!vec_push(&w->vcur, q)) return 0;
+        }
+    }
+    dense_clear(w);
+    return 1;
+}
+
 /* Column i (the k-simplex p) after the apparent-pair pass: reduces it
- * with the heap; owner[τ] is the index of the reducer whose pivot is the
- * (k+1)-simplex τ. Writes its pivot (or NG_POS_NONE) to *death. Returns 1,
- * or 0 when out of memory. */
+ * with the heap, or in the dense form once it grows long; owner[τ] is the
+ * index of the reducer whose pivot is the (k+1)-simplex τ. Writes its
+ * pivot (or NG_POS_NONE) to *death. Returns 1, or 0 when out of memory. */
 static int reduce_column(work *w, int k, size_t i, uint32_t p,
                          uint32_t *owner, entry *scratch, uint32_t *death)
 {
@@ -335,6 +518,10 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         if (!heap_push(w, scratch[r])) return 0;
     w->vcur.n = 0;
     for (;;) {
+        int heavy = w->heap_n > DENSE_AT;
+        if (force_dense ||
+            (heavy && (w->ranked || w->heavy_pushes >= w->rank_price)))
+            return reduce_dense(w, k, i, p, owner, death);
         entry piv;
         int st = heap_pivot(w, &piv);
         if (st < 0) return 0;
@@ -350,6 +537,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             return 1;
         }
         reducer R = w->red[o];
+        size_t before = w->heap_n;
         if (!push_coboundary(w, k, R.col, scratch) ||
             !vec_push(&w->vcur, R.col))
             return 0;
@@ -358,6 +546,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             if (!push_coboundary(w, k, q, scratch) || !vec_push(&w->vcur, q))
                 return 0;
         }
+        if (heavy) w->heavy_pushes += w->heap_n - before;
     }
 }
 
@@ -372,24 +561,34 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
  * depends on the filtration alone, and τ has one latest facet, so the
  * threads never write the same owner entry: the result does not depend on
  * the schedule. */
-static void apparent_pass(work *w, int k, const entry *cols, size_t ncols,
-                          uint32_t *owner, uint32_t *death, int inner)
+static int apparent_pass(work *w, int k, const entry *cols, size_t ncols,
+                         uint32_t *owner, uint32_t *death, int inner)
 {
-    long long total = (long long)ncols;
-#pragma omp parallel for schedule(dynamic, 512) num_threads(inner)
-    for (long long i = 0; i < total; i++) {
-        uint32_t p = cols[i].pos;
+    /* in position order: the cofacet lists, the vertex lists and the
+     * values are then read nearly in storage order */
+    size_t cnt = w->c->count[k];
+    uint32_t *col_of = ng_malloc(cnt, sizeof *col_of);
+    if (col_of == NULL) return 0;
+    for (size_t p = 0; p < cnt; p++) col_of[p] = NG_POS_NONE;
+    for (size_t i = 0; i < ncols; i++) col_of[cols[i].pos] = (uint32_t)i;
+    long long total = (long long)cnt;
+#pragma omp parallel for schedule(dynamic, 1024) num_threads(inner)
+    for (long long pp = 0; pp < total; pp++) {
+        uint32_t p = (uint32_t)pp, i = col_of[p];
+        if (i == NG_POS_NONE) continue;
         entry first;
         if (earliest_cofacet(w, k, p, &first) == 0) {
             death[i] = NG_POS_NONE;
         } else if (latest_facet(w, k, first.pos, p)) {
             death[i] = first.pos;
             w->red[i] = (reducer){p, 0, 0};
-            owner[first.pos] = (uint32_t)i;
+            owner[first.pos] = i;
         } else {
             death[i] = PENDING;
         }
     }
+    ng_free(col_of);
+    return 1;
 }
 
 /* Union–find root with path halving. */
@@ -538,6 +737,7 @@ static void work_release(work *w)
     ng_free(w->heap);
     ng_free(w->vcur.a);
     ng_free(w->vstore.a);
+    dense_release(w);
     ng_free(w->red);
     for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) ng_free(w->pairs[k]);
 }
@@ -569,12 +769,14 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         w.red = ng_malloc(ncols, sizeof *w.red);
         death = ng_malloc(ncols, sizeof *death);
         if (w.red == NULL || death == NULL) goto cleanup;
-        apparent_pass(&w, k, cols, ncols, owner, death, inner);
+        if (!apparent_pass(&w, k, cols, ncols, owner, death, inner))
+            goto cleanup;
         /* the other columns, latest simplex first: they never meet the
          * pivot of an apparent pair of an earlier column (that cofacet's
          * latest facet is the earlier simplex), so doing the apparent pairs
          * first changes nothing */
         w.vstore.n = 0;
+        w.rank_price = ng_complex_count_within(c, k + 1, j) / 2;
         for (size_t i = ncols; i-- > 0;)
             if (death[i] == PENDING &&
                 !reduce_column(&w, k, i, cols[i].pos, owner, scratch,
@@ -586,6 +788,7 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         death = NULL;
         ng_free(cols);
         cols = NULL;
+        dense_release(&w);
         ng_free(cleared);
         cleared = owner;
         owner = NULL;

@@ -15,11 +15,14 @@
  * 2. Classical topology: a circle has one long degree-1 bar, a 2-sphere one
  *    long degree-2 bar, a torus Betti numbers 1, 2, 1 over a range of
  *    scales (Rips filtration, edge value d/2).
- * 3. Determinism: 1 and 2 threads give identical complexes and barcodes.
+ * 3. Determinism: 1 and 2 threads give identical complexes and barcodes,
+ *    and so does the dense form of the long columns, forced on every
+ *    column (reduce_internal.h).
  */
 #include "nervegap/persistence.h"
 
 #include "alloc.h"
+#include "reduce_internal.h"
 #include "splitmix.h"
 
 #include <check.h>
@@ -511,6 +514,16 @@ static void check_random_case(size_t dimension, int D, int max_n)
     ck_assert_int_eq(ng_persistence_compute(c1, 4, &p4, &err), NG_OK);
     assert_same_persistence(p1, p2);
     assert_same_persistence(p1, p4);
+    /* every pending column in the dense form: the same bars */
+    ng_persistence *pd1 = NULL, *pd4 = NULL;
+    ng_reduce_force_dense(1);
+    ck_assert_int_eq(ng_persistence_compute(c1, 1, &pd1, &err), NG_OK);
+    ck_assert_int_eq(ng_persistence_compute(c1, 4, &pd4, &err), NG_OK);
+    ng_reduce_force_dense(0);
+    assert_same_persistence(p1, pd1);
+    assert_same_persistence(p1, pd4);
+    ng_persistence_free(pd1);
+    ng_persistence_free(pd4);
 
     ref_list all = {0};
     ng_index v[MAXV];
@@ -757,6 +770,8 @@ START_TEST(test_errors_and_free)
     ng_csr g = radius_graph(&cl, 0.35);
     ng_complex *c = build(&cl, &g, 3, INFINITY, 2);
     int succeeded = 0, threads = 2 + 2 * (_i % 2); /* 4: inner threads */
+    /* the dense form's allocations too */
+    ng_reduce_force_dense(_i >= 2);
     for (long after = 0; after < 2000 && !succeeded; after++) {
         ng_error_clear(&err);
         p = NULL;
@@ -771,6 +786,7 @@ START_TEST(test_errors_and_free)
             ck_assert_ptr_null(p);
         }
     }
+    ng_reduce_force_dense(0);
     ck_assert(succeeded);
     ng_complex_free(c);
     graph_release(&g);
@@ -791,7 +807,7 @@ static Suite *reduce_suite(int slow)
         tcase_add_test(tc, test_circle);
         tcase_add_test(tc, test_sphere);
         tcase_add_test(tc, test_torus);
-        tcase_add_loop_test(tc, test_errors_and_free, 0, 2);
+        tcase_add_loop_test(tc, test_errors_and_free, 0, 4);
     }
     suite_add_tcase(s, tc);
     return s;
