@@ -66,6 +66,26 @@ static inline int in_filtration(double x, double T)
  * NG_POS_NONE. */
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
 
+/* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x
+ * among the lower neighbours of w (the first ones of its sorted list), from
+ * the start of w's edges. The reduction's inner loop, inlined. */
+static inline uint32_t ng_complex_locate_edge(const ng_complex *c,
+                                              ng_index x, ng_index w)
+{
+    const ng_index *a = c->nbr + c->offset[w];
+    size_t lo = 0, hi = c->start[1][w + 1] - c->start[1][w];
+    size_t len = hi;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (a[mid] < x)
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo < len && a[lo] == x ? (uint32_t)(c->start[1][w] + lo)
+                                  : NG_POS_NONE;
+}
+
 /* The (k+1)-cofacets of the k-simplex with increasing vertices v[0..k]
  * (k < top_dim), one at a time, in increasing order of the added vertex —
  * which is also increasing position (the cofacets below the top vertex lie

@@ -224,17 +224,21 @@ static entry heap_pop(work *w)
 }
 
 /* Cancels equal entries at the top in pairs; leaves the pivot on top and
- * returns 1, or returns 0 when the column is zero. */
+ * returns 1, or returns 0 when the column is zero. A copy of the top, if
+ * any, is a child of the root: every entry on the path down to it lies
+ * between the two, so equals them. */
 static int heap_pivot(work *w, entry *pivot)
 {
     while (w->heap_n > 0) {
-        entry e = heap_pop(w);
-        if (w->heap_n > 0 && w->heap[0].pos == e.pos) {
+        uint32_t top = w->heap[0].pos;
+        if ((w->heap_n > 1 && w->heap[1].pos == top) ||
+            (w->heap_n > 2 && w->heap[2].pos == top)) {
+            (void)heap_pop(w);
             (void)heap_pop(w);
             continue;
         }
-        *pivot = e;
-        return heap_push(w, e) ? 1 : -1;
+        *pivot = w->heap[0];
+        return 1;
     }
     return 0;
 }
@@ -298,19 +302,32 @@ static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
 }
 
 /* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau:
- * stops at the first facet later than p. */
+ * locates the other facets (not p itself: the facet that leaves out the
+ * one vertex of tau not in p) and stops at the first one later than p. */
 static int latest_facet(const work *w, int k, uint32_t tau, uint32_t p)
 {
-    const ng_index *tv = vertices_of(w, k + 1, tau);
+    const ng_index *tv = vertices_of(w, k + 1, tau), *pv = vertices_of(w, k, p);
     const double *fv = values_of(w, k);
     entry ep = {fv[p], p};
+    int own = k + 1; /* the vertex of tau not in p: the first mismatch */
+    for (int i = 0; i <= k; i++)
+        if (tv[i] != pv[i]) {
+            own = i;
+            break;
+        }
     ng_index facet[NG_COMPLEX_MAX_DIM + 1];
     for (int skip = 0; skip <= k + 1; skip++) {
-        int r = 0;
-        for (int i = 0; i <= k + 1; i++)
-            if (i != skip) facet[r++] = tv[i];
-        uint32_t f = ng_complex_locate(w->c, k, facet);
-        if (f == p) continue;
+        if (skip == own) continue;
+        uint32_t f;
+        if (k == 1) {
+            ng_index a = tv[skip == 0 ? 1 : 0], b = tv[skip == 2 ? 1 : 2];
+            f = ng_complex_locate_edge(w->c, a, b);
+        } else {
+            int r = 0;
+            for (int i = 0; i <= k + 1; i++)
+                if (i != skip) facet[r++] = tv[i];
+            f = ng_complex_locate(w->c, k, facet);
+        }
         entry e = {fv[f], f};
         if (entry_less(ep, e)) return 0;
     }
@@ -523,9 +540,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             (heavy && (w->ranked || w->heavy_pushes >= w->rank_price)))
             return reduce_dense(w, k, i, p, owner, death);
         entry piv;
-        int st = heap_pivot(w, &piv);
-        if (st < 0) return 0;
-        if (st == 0) {
+        if (!heap_pivot(w, &piv)) {
             *death = NG_POS_NONE;
             return 1;
         }
