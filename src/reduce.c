@@ -377,12 +377,14 @@ static void dense_release(work *w)
 }
 
 /* A working column longer than this many heap entries may move to the
- * dense form. Ranking costs a sort of the (k+1)-simplices, about as much
- * per simplex as a heap push into a long column costs (bench_textbook,
- * bench_run.py): so the sort is paid for only once the pushes made into
- * long heaps of this degree reach half the number of (k+1)-simplices —
- * rent until the rent equals half the price, then buy. Short runs with a
- * few long columns never sort; long ones sort early. */
+ * dense form. Ranking costs a sort of the (k+1)-simplices: about 80–90 ns
+ * per simplex at 2·10^7 simplices, against about 40 ns per push into a
+ * long heap (measured with bench_run.py on the 2-core development
+ * machine). So the sort is bought only once the pushes made into long
+ * heaps of this degree reach twice the number of (k+1)-simplices — rent
+ * until the rent paid equals the price, then buy, which never costs more
+ * than twice the better of the two choices made in hindsight. Runs with
+ * few long columns never sort; runs with many sort early. */
 #define DENSE_AT 512
 
 static int force_dense; /* reduce_internal.h */
@@ -791,7 +793,7 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
          * latest facet is the earlier simplex), so doing the apparent pairs
          * first changes nothing */
         w.vstore.n = 0;
-        w.rank_price = ng_complex_count_within(c, k + 1, j) / 2;
+        w.rank_price = 2 * ng_complex_count_within(c, k + 1, j);
         for (size_t i = ncols; i-- > 0;)
             if (death[i] == PENDING &&
                 !reduce_column(&w, k, i, cols[i].pos, owner, scratch,
