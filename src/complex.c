@@ -257,20 +257,6 @@ static int walk_over(walk *wk)
     return wk->stop;
 }
 
-/* Number of entries of the sorted list a[0..len) below x. */
-static size_t count_below(const ng_index *a, size_t len, ng_index x)
-{
-    size_t lo = 0, hi = len;
-    while (lo < hi) {
-        size_t mid = lo + (hi - lo) / 2;
-        if (a[mid] < x)
-            lo = mid + 1;
-        else
-            hi = mid;
-    }
-    return lo;
-}
-
 /* chain[0..level-1] is a clique; cand[level] holds its common lower
  * neighbours below chain[level-1]. Visits every extension. */
 static void descend(walk *wk, int level)
@@ -324,7 +310,7 @@ static void walk_from(walk *wk, ng_index w)
     size_t lw = wk->offset[w + 1] - wk->offset[w];
     wk->chain[0] = w;
     wk->cand[1] = nw;
-    wk->ncand[1] = count_below(nw, lw, w);
+    wk->ncand[1] = ng_count_below(nw, lw, w);
     descend(wk, 1);
 }
 
@@ -488,23 +474,15 @@ static uint32_t search_bucket(const ng_complex *c, int k, const ng_index *v,
     return NG_POS_NONE;
 }
 
-/* Position of x in the sorted list a[0..n), or NG_POS_NONE. */
-static uint32_t index_in(const ng_index *a, size_t n, ng_index x)
-{
-    size_t at = count_below(a, n, x);
-    return at < n && a[at] == x ? (uint32_t)at : NG_POS_NONE;
-}
-
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
 {
     if (k == 0) return v[0] < c->n ? v[0] : NG_POS_NONE;
     ng_index w = v[k];
     if (w >= c->n) return NG_POS_NONE;
     /* the edge {v[k-1], w}: w's lower neighbours are its edges of top w */
-    size_t lower = c->start[1][w + 1] - c->start[1][w];
-    uint32_t r = index_in(c->nbr + c->offset[w], lower, v[k - 1]);
-    if (r == NG_POS_NONE) return NG_POS_NONE;
-    size_t pos = c->start[1][w] + r;
+    uint32_t edge = ng_complex_locate_edge(c, v[k - 1], w);
+    if (edge == NG_POS_NONE) return NG_POS_NONE;
+    size_t pos = edge;
     /* then one lower vertex at a time, within the run of extensions */
     for (int d = 1; d < k; d++) {
         size_t lo = c->ext[d][pos], hi = c->ext[d][pos + 1];

@@ -66,15 +66,10 @@ static inline int in_filtration(double x, double T)
  * NG_POS_NONE. */
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
 
-/* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x
- * among the lower neighbours of w (the first ones of its sorted list), from
- * the start of w's edges. The reduction's inner loop, inlined. */
-static inline uint32_t ng_complex_locate_edge(const ng_complex *c,
-                                              ng_index x, ng_index w)
+/* Number of entries of the sorted list a[0..len) below x. */
+static inline size_t ng_count_below(const ng_index *a, size_t len, ng_index x)
 {
-    const ng_index *a = c->nbr + c->offset[w];
-    size_t lo = 0, hi = c->start[1][w + 1] - c->start[1][w];
-    size_t len = hi;
+    size_t lo = 0, hi = len;
     while (lo < hi) {
         size_t mid = lo + (hi - lo) / 2;
         if (a[mid] < x)
@@ -82,8 +77,20 @@ static inline uint32_t ng_complex_locate_edge(const ng_complex *c,
         else
             hi = mid;
     }
-    return lo < len && a[lo] == x ? (uint32_t)(c->start[1][w] + lo)
-                                  : NG_POS_NONE;
+    return lo;
+}
+
+/* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x
+ * among the lower neighbours of w (the first ones of its sorted list), from
+ * the start of w's edges. Inline: the reduction's inner loop uses it. */
+static inline uint32_t ng_complex_locate_edge(const ng_complex *c,
+                                              ng_index x, ng_index w)
+{
+    const ng_index *a = c->nbr + c->offset[w];
+    size_t lower = c->start[1][w + 1] - c->start[1][w];
+    size_t at = ng_count_below(a, lower, x);
+    return at < lower && a[at] == x ? (uint32_t)(c->start[1][w] + at)
+                                    : NG_POS_NONE;
 }
 
 /* The (k+1)-cofacets of the k-simplex with increasing vertices v[0..k]
