@@ -14,10 +14,13 @@
  * bracket [fits, does not fit] to a relative width of 1e-4 by regula falsi
  * on the logarithms (the count of a complex grows about like a power of
  * the scale) with the Illinois rule: a few probes where bisection needs
- * 14. A probe builds the graph at t and counts its cliques, stopping at
- * twice the budget (ng_complex_estimate's max_total). The smallest complete graph
- * that did not fit is kept: every later probe lies below its scale, so its
- * graph is that one filtered by edge value — no k-d tree search, no sort.
+ * 14. A probe builds the graph at t and counts its cliques, stopping at the
+ * budget while bracketing and at twice the budget otherwise
+ * (ng_complex_estimate's max_total). The smallest complete graph that did
+ * not fit is kept: every later probe lies below its scale, so its graph is
+ * that one filtered by edge value — no k-d tree search, no sort. The graph
+ * of the largest scale that fits is kept too: the search ends there, and
+ * the run needs that graph.
  */
 #include "scale_limit.h"
 
@@ -47,6 +50,10 @@ typedef struct search {
     int pairs_by_budget;  /* pair_cap comes from the simplex budget */
     ng_csr upper;         /* complete graph at upper_scale, or offset NULL */
     double upper_scale;
+    int bracketing;       /* counts stop at the budget (bracket_fit) */
+    ng_csr best;          /* graph of the largest scale that fits so far */
+    double best_scale;
+    ng_complex_size best_size;
 } search;
 
 typedef struct probe {
@@ -130,9 +137,13 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
         return p;
     }
     /* counting on to twice the budget gives the refinement an exact count
-     * just above it, at most twice the cost */
-    size_t count_to = se->count_cap <= SIZE_MAX / 2 ? 2 * se->count_cap
-                                                     : se->count_cap;
+     * just above it, and a refused scale its size, at most twice the cost;
+     * while bracketing, a scale that does not fit is usually far above
+     * (doubling the scale multiplies the count many times over), so the
+     * count stops at the budget */
+    size_t count_to = !se->bracketing && se->count_cap <= SIZE_MAX / 2
+                          ? 2 * se->count_cap
+                          : se->count_cap;
     p.status = ng_complex_estimate(&g, opt->max_degree + 1, se->L, count_to,
                                    opt->threads, &p.size, err);
     if (p.status != NG_OK) {
@@ -159,6 +170,11 @@ static probe probe_at(search *se, double T, ng_csr *keep, ng_error *err)
     p.fits = !over_cap && p.bytes <= opt->budget_bytes;
     if (p.fits && keep) {
         *keep = g;
+    } else if (p.fits && (se->best.offset == NULL || T > se->best_scale)) {
+        ng_csr_free(&se->best);
+        se->best = g;
+        se->best_scale = T;
+        se->best_size = p.size;
     } else if (!p.fits &&
                (se->upper.offset == NULL || T < se->upper_scale)) {
         ng_csr_free(&se->upper);
@@ -314,9 +330,11 @@ static int bracket_fit(search *se, double cap, end *lo, end *hi,
  * halving the f of an end that stays put twice in a row (the Illinois
  * rule, so that both ends keep moving), and never closer to an end than
  * half the tolerance, and bisecting after REFINE_SECANT_STEPS probes. An
- * end whose count is unknown (the count stopped at twice the budget, or at
- * 0 for the lower end) takes the value it is known to pass: f ≥ log 2
- * above, and the midpoint is used when nothing is known below. */
+ * upper end whose count is unknown takes f = log 2: a bound it is known to
+ * pass when its count stopped at twice the budget, only a guess when it
+ * stopped at the budget (bracketing) — it moves the probe, not the
+ * bracket, so the scale found still meets the tolerance. A lower end at
+ * scale 0 has no count, and the midpoint is used. */
 typedef struct side {
     double x, f;
 } side;
@@ -375,7 +393,9 @@ static int refine_fit(search *se, end lo, end hi, double *out, ng_error *err)
 static int largest_fit(search *se, double cap, double *fit, ng_error *err)
 {
     end lo, hi;
+    se->bracketing = 1;
     int status = bracket_fit(se, cap, &lo, &hi, err);
+    se->bracketing = 0;
     if (status == NG_OK) status = refine_fit(se, lo, hi, fit, err);
     return status;
 }
@@ -465,8 +485,18 @@ static int choose(search *se, ng_scale_choice *out, ng_csr *graph,
     }
     status = largest_fit(se, cap, &fit, err);
     if (status != NG_OK) return status;
-    probe p = probe_at(se, fit, graph, err);
-    if (p.status != NG_OK) return p.status;
+    probe p;
+    memset(&p, 0, sizeof p);
+    if (se->best.offset != NULL && se->best_scale == fit) {
+        /* the search's last fitting probe: its graph is at hand */
+        *graph = se->best;
+        memset(&se->best, 0, sizeof se->best);
+        p.fits = 1;
+        p.size = se->best_size;
+    } else {
+        p = probe_at(se, fit, graph, err);
+        if (p.status != NG_OK) return p.status;
+    }
     if (!p.fits)
         return ng_error_set(err, NG_ERR_BUDGET,
                             "no positive scale fits the budget of %zu "
@@ -508,6 +538,7 @@ int ng_scale_limit_choose(const ng_space *s, const ng_run_options *opt, int L,
     report(opt, 0.0);
     int status = choose(&se, out, graph, err);
     ng_csr_free(&se.upper);
+    ng_csr_free(&se.best);
     if (status != NG_OK) ng_csr_free(graph);
     report(opt, 1.0);
     return status;
