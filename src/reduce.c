@@ -362,6 +362,28 @@ static int store_reducer(work *w, size_t slot, uint32_t p)
     return 1;
 }
 
+/* The k-simplices within T, not cleared, sorted by filtration order;
+ * *out is allocated (caller frees), its length returned in *len. */
+static int sorted_columns(const work *w, int k, const uint32_t *cleared,
+                          entry **out, size_t *len)
+{
+    const double *val = values_of(w, k);
+    size_t cnt = w->c->count[k], m = 0;
+    entry *a = ng_malloc(cnt, sizeof *a);
+    if (a == NULL) return 0;
+    for (size_t p = 0; p < cnt; p++)
+        if (in_filtration(val[p], w->T) &&
+            (cleared == NULL || cleared[p] == NG_POS_NONE))
+            a[m++] = (entry){val[p], (uint32_t)p};
+    if (ng_sort_keyed(a, m) != 0) {
+        ng_free(a);
+        return 0;
+    }
+    *out = a;
+    *len = m;
+    return 1;
+}
+
 /* ---- dense working column, for columns that grow long ---- */
 
 static void dense_release(work *w)
@@ -402,22 +424,11 @@ int ng_reduce_force_dense(int on)
  * of memory. */
 static int rank_cofacets(work *w, int k)
 {
-    const double *val = values_of(w, k + 1);
     size_t cnt = w->c->count[k + 1], m = 0;
-    entry *a = ng_malloc(cnt ? cnt : 1, sizeof *a);
+    entry *a = NULL;
     w->rank = ng_malloc(cnt ? cnt : 1, sizeof *w->rank);
-    if (a == NULL || w->rank == NULL) {
-        ng_free(a);
-        return 0;
-    }
-    for (size_t q = 0; q < cnt; q++) {
-        w->rank[q] = NG_POS_NONE;
-        if (in_filtration(val[q], w->T)) a[m++] = (entry){val[q], (uint32_t)q};
-    }
-    if (ng_sort_keyed(a, m) != 0) {
-        ng_free(a);
-        return 0;
-    }
+    if (w->rank == NULL || !sorted_columns(w, k + 1, NULL, &a, &m)) return 0;
+    for (size_t q = 0; q < cnt; q++) w->rank[q] = NG_POS_NONE;
     /* by_rank overwrites the sorted entries from the front: entry r is
      * read before the bytes 4r.. are written, and 4r ≤ 16r */
     uint32_t *by_rank = (uint32_t *)(void *)a;
@@ -616,28 +627,6 @@ static uint32_t find_root(uint32_t *parent, uint32_t x)
         x = parent[x];
     }
     return x;
-}
-
-/* The k-simplices within T, not cleared, sorted by filtration order;
- * *out is allocated (caller frees), its length returned in *len. */
-static int sorted_columns(const work *w, int k, const uint32_t *cleared,
-                          entry **out, size_t *len)
-{
-    const double *val = values_of(w, k);
-    size_t cnt = w->c->count[k], m = 0;
-    entry *a = ng_malloc(cnt, sizeof *a);
-    if (a == NULL) return 0;
-    for (size_t p = 0; p < cnt; p++)
-        if (in_filtration(val[p], w->T) &&
-            (cleared == NULL || cleared[p] == NG_POS_NONE))
-            a[m++] = (entry){val[p], (uint32_t)p};
-    if (ng_sort_keyed(a, m) != 0) {
-        ng_free(a);
-        return 0;
-    }
-    *out = a;
-    *len = m;
-    return 1;
 }
 
 /* Degree 0 by union–find; marks the joining edges in killed (count[1]
