@@ -66,18 +66,20 @@ static inline int in_filtration(double x, double T)
  * NG_POS_NONE. */
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
 
-/* Number of entries of the sorted list a[0..len) below x. */
+/* Number of entries of the sorted list a[0..len) below x. Branch-free:
+ * the range [base, base + len] holds the answer and halves each step by a
+ * conditional move, so a search costs no mispredicted branches (the
+ * reduction's apparent-pair pass makes two per column). */
 static inline size_t ng_count_below(const ng_index *a, size_t len, ng_index x)
 {
-    size_t lo = 0, hi = len;
-    while (lo < hi) {
-        size_t mid = lo + (hi - lo) / 2;
-        if (a[mid] < x)
-            lo = mid + 1;
-        else
-            hi = mid;
+    if (len == 0) return 0;
+    const ng_index *base = a;
+    while (len > 1) {
+        size_t half = len / 2;
+        base = base[half] < x ? base + half : base;
+        len -= half;
     }
-    return lo;
+    return (size_t)(base - a) + (*base < x);
 }
 
 /* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x

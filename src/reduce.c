@@ -48,10 +48,17 @@
  *   as the list V of simplices whose coboundaries it sums (keeping the
  *   reduced columns themselves was measured slower: they are about as long
  *   as the coboundaries they sum, and must be sorted out of the heap). The
- *   working column is a binary heap of cofacets
- *   keyed by filtration order; equal entries cancel in pairs when they
- *   reach the top (mod-2 addition), so the first entry that survives is the
- *   pivot. Before building a heap, a column checks for an apparent pair:
+ *   working column is a k-way merge: each coboundary added to it is one
+ *   run, its cofacets sorted in filtration order, and a binary heap of the
+ *   runs keyed by their first untaken entry yields the column's entries in
+ *   order; equal entries cancel in pairs when they reach the top (mod-2
+ *   addition), so the first entry that survives is the pivot. Most entries
+ *   are never taken — a column stops at its first free pivot — so a heap of
+ *   runs does one heap operation per added coboundary where a heap of
+ *   single cofacets does one per cofacet (measured 15–20 % faster on the
+ *   whole reduction). A column whose earliest cofacet is a free pivot is
+ *   recorded at once, unsorted (an emergent pair). Before all that, a
+ *   column checks for an apparent pair:
  *   if its earliest cofacet τ has σ as its LATEST facet, no later column
  *   can contain τ, so τ is free and (σ, τ) is a pair with no additions; the
  *   column is then recorded with an empty V. The earliest cofacet is found
@@ -122,6 +129,14 @@ typedef struct pair {
     uint32_t birth, death;
 } pair;
 
+/* A run: the cofacets within T of one simplex added to the working column,
+ * sorted in filtration order; head is the first one not yet taken, the
+ * rest are store[next .. end). */
+typedef struct run {
+    entry head;
+    size_t next, end;
+} run;
+
 typedef struct vec32 {
     uint32_t *a;
     size_t n, cap;
@@ -131,8 +146,11 @@ typedef struct work {
     const ng_complex *c;
     int j;
     double T;
-    entry *heap;
-    size_t heap_n, heap_cap;
+    run *runs;     /* the working column: a heap of runs */
+    size_t nruns, runs_cap;
+    entry *store;  /* the runs' entries */
+    size_t store_n, store_cap;
+    size_t live;   /* entries left in the runs */
     vec32 vcur;    /* V of the column being reduced */
     vec32 vstore;  /* V of the recorded columns */
     /* the dense form (reduce_dense), built for a degree when first
@@ -189,58 +207,102 @@ static int add_pair(work *w, int k, uint32_t birth, uint32_t death)
     return 1;
 }
 
-/* ---- heap of cofacets, min by (value, pos) ---- */
+/* ---- the working column: a heap of sorted runs, min by head ---- */
 
-static int heap_push(work *w, entry e)
+static int run_less(const run *a, const run *b)
 {
-    if (!grow((void **)&w->heap, &w->heap_cap, w->heap_n + 1, sizeof e))
-        return 0;
-    size_t i = w->heap_n++;
-    while (i > 0) {
-        size_t parent = (i - 1) / 2;
-        if (!entry_less(e, w->heap[parent])) break;
-        w->heap[i] = w->heap[parent];
-        i = parent;
-    }
-    w->heap[i] = e;
-    return 1;
+    return entry_less(a->head, b->head);
 }
 
-static entry heap_pop(work *w)
+static void runs_sift_down(work *w, size_t i)
 {
-    entry top = w->heap[0], last = w->heap[--w->heap_n];
-    size_t i = 0, n = w->heap_n;
+    run x = w->runs[i];
+    size_t n = w->nruns;
     for (;;) {
         size_t l = 2 * i + 1;
         if (l >= n) break;
-        size_t m = l + 1 < n && entry_less(w->heap[l + 1], w->heap[l]) ? l + 1
+        size_t m = l + 1 < n && run_less(&w->runs[l + 1], &w->runs[l]) ? l + 1
                                                                         : l;
-        if (!entry_less(w->heap[m], last)) break;
-        w->heap[i] = w->heap[m];
+        if (!run_less(&w->runs[m], &x)) break;
+        w->runs[i] = w->runs[m];
         i = m;
     }
-    if (n > 0) w->heap[i] = last;
-    return top;
+    w->runs[i] = x;
 }
 
-/* Cancels equal entries at the top in pairs; leaves the pivot on top and
- * returns 1, or returns 0 when the column is zero. A copy of the top, if
- * any, is a child of the root: every entry on the path down to it lies
- * between the two, so equals them. */
-static int heap_pivot(work *w, entry *pivot)
+static int runs_push(work *w, run r)
 {
-    while (w->heap_n > 0) {
-        uint32_t top = w->heap[0].pos;
-        if ((w->heap_n > 1 && w->heap[1].pos == top) ||
-            (w->heap_n > 2 && w->heap[2].pos == top)) {
-            (void)heap_pop(w);
-            (void)heap_pop(w);
+    if (!grow((void **)&w->runs, &w->runs_cap, w->nruns + 1, sizeof r))
+        return 0;
+    size_t i = w->nruns++;
+    while (i > 0) {
+        size_t parent = (i - 1) / 2;
+        if (!run_less(&r, &w->runs[parent])) break;
+        w->runs[i] = w->runs[parent];
+        i = parent;
+    }
+    w->runs[i] = r;
+    return 1;
+}
+
+/* Takes the head of the top run. */
+static void runs_advance(work *w)
+{
+    run *t = &w->runs[0];
+    w->live--;
+    if (t->next < t->end) {
+        t->head = w->store[t->next++];
+    } else if (--w->nruns > 0) {
+        w->runs[0] = w->runs[w->nruns];
+    } else {
+        return;
+    }
+    runs_sift_down(w, 0);
+}
+
+/* Cancels equal heads at the top in pairs; returns 1 with the pivot (the
+ * earliest entry of the column) in *pivot, or 0 when the column is zero.
+ * A run holds distinct entries, and a copy of the top head, if any, is the
+ * head of a child of the root: every head on the path down to it lies
+ * between the two, so equals them. */
+static int runs_pivot(work *w, entry *pivot)
+{
+    while (w->nruns > 0) {
+        uint32_t top = w->runs[0].head.pos;
+        if ((w->nruns > 1 && w->runs[1].head.pos == top) ||
+            (w->nruns > 2 && w->runs[2].head.pos == top)) {
+            runs_advance(w);
+            runs_advance(w);
             continue;
         }
-        *pivot = w->heap[0];
+        *pivot = w->runs[0].head;
         return 1;
     }
     return 0;
+}
+
+static int cmp_entry(const void *pa, const void *pb)
+{
+    const entry *a = pa, *b = pb;
+    return entry_less(*a, *b) ? -1 : entry_less(*b, *a);
+}
+
+/* Sorts a[0..n) by filtration order. */
+static void sort_run(entry *a, size_t n)
+{
+    if (n > 48) {
+        qsort(a, n, sizeof *a, cmp_entry);
+        return;
+    }
+    for (size_t i = 1; i < n; i++) {
+        entry e = a[i];
+        size_t j = i;
+        while (j > 0 && entry_less(e, a[j - 1])) {
+            a[j] = a[j - 1];
+            j--;
+        }
+        a[j] = e;
+    }
 }
 
 /* How far ahead the value of a cofacet is fetched: the values of a
@@ -292,13 +354,33 @@ static size_t earliest_cofacet(const work *w, int k, uint32_t q,
     return m;
 }
 
-static int push_coboundary(work *w, int k, uint32_t q, entry *scratch)
+/* Room in the store for the cofacets of one more simplex. */
+static int store_reserve(work *w)
+{
+    return grow((void **)&w->store, &w->store_cap,
+                w->store_n + w->c->max_degree + 1, sizeof *w->store);
+}
+
+/* Makes the m entries at the end of the store (not yet counted in
+ * store_n) a run of the working column. */
+static int push_run(work *w, size_t m)
+{
+    if (m == 0) return 1;
+    entry *a = w->store + w->store_n;
+    sort_run(a, m);
+    size_t at = w->store_n;
+    w->store_n += m;
+    w->live += m;
+    return runs_push(w, (run){a[0], at + 1, at + m});
+}
+
+/* Adds the coboundary of the k-simplex q to the working column. */
+static int add_coboundary(work *w, int k, uint32_t q)
 {
     entry first;
-    size_t m = cofacets_within(w, k, q, &first, scratch);
-    for (size_t i = 0; i < m; i++)
-        if (!heap_push(w, scratch[i])) return 0;
-    return 1;
+    if (!store_reserve(w)) return 0;
+    return push_run(w, cofacets_within(w, k, q, &first,
+                                       w->store + w->store_n));
 }
 
 /* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau:
@@ -499,14 +581,18 @@ static void dense_add_coboundary(work *w, int k, uint32_t q)
 }
 
 /* Finishes the reduction of column i (the k-simplex p) in the dense form,
- * from the heap's entries; as reduce_column. */
+ * from the runs' entries; as reduce_column. */
 static int reduce_dense(work *w, int k, size_t i, uint32_t p,
                         uint32_t *owner, uint32_t *death)
 {
     if (!w->ranked && !rank_cofacets(w, k)) return 0;
-    for (size_t h = 0; h < w->heap_n; h++)
-        dense_flip(w, w->rank[w->heap[h].pos]);
-    w->heap_n = 0;
+    for (size_t h = 0; h < w->nruns; h++) {
+        const run *r = &w->runs[h];
+        dense_flip(w, w->rank[r->head.pos]);
+        for (size_t e = r->next; e < r->end; e++)
+            dense_flip(w, w->rank[w->store[e].pos]);
+    }
+    w->nruns = w->store_n = w->live = 0;
     uint32_t r = 0;
     for (;;) {
         r = dense_next(w, r);
@@ -539,21 +625,28 @@ static int reduce_dense(work *w, int k, size_t i, uint32_t p,
  * index of the reducer whose pivot is the (k+1)-simplex τ. Writes its
  * pivot (or NG_POS_NONE) to *death. Returns 1, or 0 when out of memory. */
 static int reduce_column(work *w, int k, size_t i, uint32_t p,
-                         uint32_t *owner, entry *scratch, uint32_t *death)
+                         uint32_t *owner, uint32_t *death)
 {
     entry first;
-    size_t m = cofacets_within(w, k, p, &first, scratch);
-    w->heap_n = 0;
-    for (size_t r = 0; r < m; r++)
-        if (!heap_push(w, scratch[r])) return 0;
+    w->nruns = w->store_n = w->live = 0;
     w->vcur.n = 0;
+    if (!store_reserve(w)) return 0;
+    size_t m = cofacets_within(w, k, p, &first, w->store);
+    if (m > 0 && owner[first.pos] == NG_POS_NONE) {
+        /* the pivot is free: no additions, nothing to sort */
+        if (!store_reducer(w, i, p)) return 0;
+        owner[first.pos] = (uint32_t)i;
+        *death = first.pos;
+        return 1;
+    }
+    if (!push_run(w, m)) return 0;
     for (;;) {
-        int heavy = w->heap_n > DENSE_AT;
+        int heavy = w->live > DENSE_AT;
         if (force_dense ||
             (heavy && (w->ranked || w->heavy_pushes >= w->rank_price)))
             return reduce_dense(w, k, i, p, owner, death);
         entry piv;
-        if (!heap_pivot(w, &piv)) {
+        if (!runs_pivot(w, &piv)) {
             *death = NG_POS_NONE;
             return 1;
         }
@@ -565,16 +658,15 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             return 1;
         }
         reducer R = w->red[o];
-        size_t before = w->heap_n;
-        if (!push_coboundary(w, k, R.col, scratch) ||
-            !vec_push(&w->vcur, R.col))
+        size_t before = w->live;
+        if (!add_coboundary(w, k, R.col) || !vec_push(&w->vcur, R.col))
             return 0;
         for (uint32_t r = 0; r < R.v_len; r++) {
             uint32_t q = w->vstore.a[R.v_off + r];
-            if (!push_coboundary(w, k, q, scratch) || !vec_push(&w->vcur, q))
+            if (!add_coboundary(w, k, q) || !vec_push(&w->vcur, q))
                 return 0;
         }
-        if (heavy) w->heavy_pushes += w->heap_n - before;
+        if (heavy) w->heavy_pushes += w->live - before;
     }
 }
 
@@ -630,8 +722,11 @@ static uint32_t find_root(uint32_t *parent, uint32_t x)
 }
 
 /* Degree 0 by union–find; marks the joining edges in killed (count[1]
- * entries, NG_POS_NONE = not a pivot). */
-static int reduce_degree0(work *w, uint32_t *killed)
+ * entries, NG_POS_NONE = not a pivot). The edges within T in filtration
+ * order are left in *edges_out (caller frees), *ne_out of them: degree 1
+ * takes its columns from them. */
+static int reduce_degree0(work *w, uint32_t *killed, entry **edges_out,
+                          size_t *ne_out)
 {
     const ng_complex *c = w->c;
     const double *v0 = values_of(w, 0);
@@ -658,6 +753,9 @@ static int reduce_degree0(work *w, uint32_t *killed)
             !add_pair(w, 0, (uint32_t)i, NG_POS_NONE))
             goto cleanup;
     ok = 1;
+    *edges_out = edges;
+    *ne_out = ne;
+    edges = NULL;
 cleanup:
     ng_free(parent);
     ng_free(edges);
@@ -740,7 +838,8 @@ static int make_bars(const work *w, int k, ng_bars *out)
 
 static void work_release(work *w)
 {
-    ng_free(w->heap);
+    ng_free(w->runs);
+    ng_free(w->store);
     ng_free(w->vcur.a);
     ng_free(w->vstore.a);
     dense_release(w);
@@ -759,17 +858,23 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
     w.j = j;
     w.T = c->scale_limit;
     uint32_t *cleared = NULL, *owner = NULL, *death = NULL;
-    entry *cols = NULL, *scratch = NULL;
-    scratch = ng_malloc(c->max_degree + 1, sizeof *scratch);
+    entry *cols = NULL;
     cleared = ng_malloc(c->count[1], sizeof *cleared);
-    if (scratch == NULL || cleared == NULL) goto cleanup;
+    if (cleared == NULL) goto cleanup;
     for (size_t e = 0; e < c->count[1]; e++) cleared[e] = NG_POS_NONE;
-    if (!reduce_degree0(&w, cleared)) goto cleanup;
+    size_t ncols = 0;
+    if (!reduce_degree0(&w, cleared, &cols, &ncols)) goto cleanup;
     for (int k = 1; k <= D; k++) {
         owner = ng_malloc(c->count[k + 1], sizeof *owner);
-        size_t ncols = 0;
-        if (owner == NULL || !sorted_columns(&w, k, cleared, &cols, &ncols))
+        if (owner == NULL) goto cleanup;
+        if (k == 1) { /* the edges of degree 0, less the cleared ones */
+            size_t m = 0;
+            for (size_t i = 0; i < ncols; i++)
+                if (cleared[cols[i].pos] == NG_POS_NONE) cols[m++] = cols[i];
+            ncols = m;
+        } else if (!sorted_columns(&w, k, cleared, &cols, &ncols)) {
             goto cleanup;
+        }
         for (size_t e = 0; e < c->count[k + 1]; e++) owner[e] = NG_POS_NONE;
         ng_free(w.red);
         w.red = ng_malloc(ncols, sizeof *w.red);
@@ -785,8 +890,7 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         w.rank_price = 2 * ng_complex_count_within(c, k + 1, j);
         for (size_t i = ncols; i-- > 0;)
             if (death[i] == PENDING &&
-                !reduce_column(&w, k, i, cols[i].pos, owner, scratch,
-                               &death[i]))
+                !reduce_column(&w, k, i, cols[i].pos, owner, &death[i]))
                 goto cleanup;
         for (size_t i = 0; i < ncols; i++)
             if (!add_pair(&w, k, cols[i].pos, death[i])) goto cleanup;
@@ -807,7 +911,6 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
     ok = 1;
 cleanup:
     work_release(&w);
-    ng_free(scratch);
     ng_free(cleared);
     ng_free(owner);
     ng_free(death);
