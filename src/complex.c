@@ -357,6 +357,10 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
      * they are being built (as much again, for the largest dimension) */
     size_t lists = 0, largest = 0;
     for (int k = 1; k < top_dim; k++) b += s->count[k] * 12;
+    /* the latest facets: a byte per simplex of dimension ≥ 2 and
+     * filtration */
+    for (int k = 2; k <= top_dim; k++)
+        b += s->count[k] * (size_t)n_filtrations;
     for (int k = 2; k <= top_dim; k++) {
         size_t bytes = s->count[k] * (size_t)(k + 1) * sizeof(uint32_t);
         lists += bytes;
@@ -369,11 +373,19 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
      * apparent-pair pass's column index (4 B) per k-simplex; per
      * (k+1)-simplex, pivots (4 B) and, when long columns go dense, ranks
      * (4 B), the sorted entries and their sort buffer (32 B) and the bit
-     * set; the sort's counters (order.c: 2^16 + 1 of 8 B) */
+     * set; the sort's counters (order.c: 2^16 + 1 of 8 B); the cache of
+     * sorted coboundaries (reduce.c: 4 B per k-simplex and at most 64 MiB,
+     * or, when that is less, twice — it grows by doubling — 16 B per entry
+     * of all k-simplices' coboundaries, k + 2 per (k+1)-simplex, and a
+     * header per k-simplex) */
     size_t sort_counters = ((size_t)1 << 16) * 8 + 8;
     size_t r = n * sizeof(uint32_t) + s->count[1] * 36 + sort_counters;
     for (int k = 1; k < top_dim; k++) {
-        size_t rk = s->count[k] * 56 + s->count[k + 1] * 41 + sort_counters;
+        size_t cache =
+            2 * 16 * (s->count[k + 1] * (size_t)(k + 2) + s->count[k]);
+        if (cache > ((size_t)64 << 20)) cache = (size_t)64 << 20;
+        size_t rk = s->count[k] * 60 + s->count[k + 1] * 41 + sort_counters +
+                    cache;
         if (rk > r) r = rk;
     }
     s->bytes_reduce = r;
@@ -611,6 +623,7 @@ void ng_complex_free(ng_complex *c)
         ng_free(c->vert[k]);
         ng_free(c->start[k]);
         ng_free(c->value[k]);
+        ng_free(c->latest[k]);
     }
     for (int k = 0; k < NG_COMPLEX_MAX_DIM; k++) {
         ng_free(c->ext[k]);
@@ -685,16 +698,28 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
 {
     int L = c->n_filtrations;
     size_t cnt = c->count[k], below = c->count[k - 1];
-    double *scratch = ng_malloc((size_t)nt, (size_t)L * sizeof(double));
-    if (scratch == NULL)
+    /* per thread: the values (L), the latest facets' values (L) and
+     * positions (L) */
+    double *scratch = ng_malloc((size_t)nt, (size_t)L * 2 * sizeof(double));
+    uint32_t *scratch_pos = ng_malloc((size_t)nt, (size_t)L * sizeof(uint32_t));
+    uint8_t *latest = k >= 2 ? ng_malloc(cnt ? cnt : 1, (size_t)L) : NULL;
+    if (scratch == NULL || scratch_pos == NULL || (k >= 2 && latest == NULL)) {
+        ng_free(scratch);
+        ng_free(scratch_pos);
+        ng_free(latest);
         return ng_error_set(err, NG_ERR_NOMEM,
                             "complex: out of memory for simplex values");
+    }
+    c->latest[k] = latest;
     size_t bad_pos = SIZE_MAX;
     int bad_status = 0, bad_nan = 0;
     long long total = (long long)cnt;
 #pragma omp parallel num_threads(nt)
     {
-        double *val = scratch + (size_t)omp_get_thread_num() * (size_t)L;
+        int tid = omp_get_thread_num();
+        double *val = scratch + (size_t)tid * (size_t)L * 2;
+        double *latest_value = val + L;
+        uint32_t *latest_pos = scratch_pos + (size_t)tid * (size_t)L;
         long long mine = 0;
 #pragma omp for schedule(dynamic, 256)
         for (long long p = 0; p < total; p++) {
@@ -732,6 +757,17 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
                 if (facets) facets[(size_t)p * (size_t)(k + 1) + (size_t)skip] = f;
                 for (int j = 0; j < L; j++) {
                     double fv = c->value[k - 1][(size_t)j * below + f];
+                    if (latest) {
+                        /* the latest facet so far: largest (value, pos) */
+                        double *lv = &latest_value[j];
+                        uint32_t *lp = &latest_pos[j];
+                        if (skip == 0 || fv > *lv || (fv == *lv && f > *lp)) {
+                            *lv = fv;
+                            *lp = f;
+                            latest[(size_t)j * cnt + (size_t)p] =
+                                (uint8_t)skip;
+                        }
+                    }
                     if (fv > val[j]) val[j] = fv;
                 }
             }
@@ -740,6 +776,7 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
         }
     }
     ng_free(scratch);
+    ng_free(scratch_pos);
     if (bad_pos == SIZE_MAX) return NG_OK;
     const ng_index *v = c->vert[k] + bad_pos * (size_t)(k + 1);
     char names[128];

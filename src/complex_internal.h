@@ -18,6 +18,11 @@
  * neighbour list and one per further vertex in a run — small, contiguous
  * ranges — instead of one search in the whole bucket of its top vertex.
  *
+ * Latest facets. The reduction's apparent-pair test asks, for many
+ * (k+1)-simplices τ, whether a given facet is τ's latest one; the value
+ * pass locates every facet anyway, so it keeps the answer, one byte per
+ * simplex and filtration.
+ *
  * Cofacet lists. The reduction asks for the cofacets of every column, often
  * many times; for k ≥ 1 they are stored (the transpose of the facet
  * positions found while raising each value to its facets'), so that
@@ -52,6 +57,12 @@ struct ng_complex {
     size_t *cof_start[NG_COMPLEX_MAX_DIM];
     uint32_t *cof[NG_COMPLEX_MAX_DIM];
     double *value[NG_COMPLEX_MAX_DIM + 1];
+    /* k = 2..top_dim: latest[k][j * count[k] + pos] is the index s of the
+     * vertex whose removal leaves the latest facet of that simplex in
+     * filtration j — the facet of largest (value, position); found while
+     * the values are raised to their facets', read by the apparent-pair
+     * test of the reduction */
+    uint8_t *latest[NG_COMPLEX_MAX_DIM + 1];
     size_t *within; /* n_filtrations × (top_dim + 1): value_j ≤ T counts */
 };
 

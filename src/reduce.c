@@ -55,37 +55,38 @@
  *   addition), so the first entry that survives is the pivot. Most entries
  *   are never taken — a column stops at its first free pivot — so a heap of
  *   runs does one heap operation per added coboundary where a heap of
- *   single cofacets does one per cofacet (measured 15–20 % faster on the
- *   whole reduction). A column whose earliest cofacet is a free pivot is
- *   recorded at once, unsorted (an emergent pair). Before all that, a
- *   column checks for an apparent pair:
- *   if its earliest cofacet τ has σ as its LATEST facet, no later column
- *   can contain τ, so τ is free and (σ, τ) is a pair with no additions; the
- *   column is then recorded with an empty V. The earliest cofacet is found
- *   without reading the whole list when one has the column's own value:
- *   the list is in position order, no cofacet has a smaller value, so the
- *   first of equal value is the earliest. Whether a column is apparent
- *   depends on the filtration only, so all columns of a degree are first
- *   tested in parallel; the remaining ones are then reduced one by one,
- *   latest first — no column of a later simplex ever meets the pivot τ of
- *   an apparent pair, which makes the result the same as one sequential
- *   sweep.
+ *   single cofacets does one per cofacet. The same simplices come back in
+ *   the V of many columns, so a sorted coboundary is kept for reuse within
+ *   its degree (up to CACHE_MAX entries). A column whose earliest cofacet
+ *   is a free pivot is recorded at once, unsorted (an emergent pair).
+ *
+ *   Before all that, a column checks for an apparent pair: if its earliest
+ *   cofacet τ has σ as its LATEST facet, no later column can contain τ, so
+ *   τ is free and (σ, τ) is a pair with no additions; the column is then
+ *   recorded with an empty V. The earliest cofacet is found without
+ *   reading the whole list when one has the column's own value: the list
+ *   is in position order, no cofacet has a smaller value, so the first of
+ *   equal value is the earliest. The latest facet of every simplex was
+ *   noted when the complex was built (complex_internal.h), so the test
+ *   reads one byte. Whether a column is apparent depends on the filtration
+ *   only, so all columns of a degree are first tested in parallel, in
+ *   table (position) order, so that cofacet lists and vertex lists are
+ *   read in storage order; the remaining columns are then reduced one by
+ *   one, latest first — no column of a later simplex ever meets the pivot
+ *   τ of an apparent pair, which makes the result the same as one
+ *   sequential sweep.
  *
  *   Long columns. A few columns — classes that live long — sum the
- *   coboundaries of thousands of columns, and their heaps grow to tens of
- *   thousands of entries that are pushed and never popped. Such a column
- *   moves to a dense form: the (k+1)-simplices are ranked in filtration
- *   order once per degree (a sort), and the column becomes a bit set over
- *   the ranks with one summary bit per 64-bit word. Adding a cofacet flips
- *   one bit (mod 2 for free), and since every column added has its pivot
- *   at the current pivot and the rest later, the pivot only moves forward:
- *   the next one is the next set bit, found through the summary words.
- *   The sort is paid for only once long heaps have cost about as much
- *   (DENSE_AT below). The bars do not depend on the form a column takes.
- *
- *   The apparent-pair pass walks the columns in table (position) order,
- *   not filtration order: the cofacet lists and vertex lists are then read
- *   in storage order, and the cofacets' values nearly so.
+ *   coboundaries of thousands of columns, and hold tens of thousands of
+ *   entries that are never taken. Such a column moves to a dense form: the
+ *   (k+1)-simplices are ranked in filtration order once per degree (a
+ *   sort), and the column becomes a bit set over the ranks with one
+ *   summary bit per 64-bit word. Adding a cofacet flips one bit (mod 2 for
+ *   free), and since every column added has its pivot at the current pivot
+ *   and the rest later, the pivot only moves forward: the next one is the
+ *   next set bit, found through the summary words. The sort is paid for
+ *   only once long columns have cost about as much (DENSE_AT below). The
+ *   bars do not depend on the form a column takes.
  *
  *   Threads: with at least as many filtrations as threads, each thread
  *   reduces whole filtrations; with fewer, the filtrations are reduced one
@@ -135,6 +136,7 @@ typedef struct pair {
 typedef struct run {
     entry head;
     size_t next, end;
+    int cached; /* entries in the cache, not the store */
 } run;
 
 typedef struct vec32 {
@@ -151,6 +153,12 @@ typedef struct work {
     entry *store;  /* the runs' entries */
     size_t store_n, store_cap;
     size_t live;   /* entries left in the runs */
+    /* sorted coboundaries kept for reuse within a degree: the one of the
+     * k-simplex q starts at cache[cached_at[q]] (a header entry whose pos
+     * is its length), NG_POS_NONE when not kept */
+    uint32_t *cached_at;
+    entry *cache;
+    size_t cache_n, cache_cap;
     vec32 vcur;    /* V of the column being reduced */
     vec32 vstore;  /* V of the recorded columns */
     /* the dense form (reduce_dense), built for a degree when first
@@ -251,7 +259,7 @@ static void runs_advance(work *w)
     run *t = &w->runs[0];
     w->live--;
     if (t->next < t->end) {
-        t->head = w->store[t->next++];
+        t->head = (t->cached ? w->cache : w->store)[t->next++];
     } else if (--w->nruns > 0) {
         w->runs[0] = w->runs[w->nruns];
     } else {
@@ -371,49 +379,68 @@ static int push_run(work *w, size_t m)
     size_t at = w->store_n;
     w->store_n += m;
     w->live += m;
-    return runs_push(w, (run){a[0], at + 1, at + m});
+    return runs_push(w, (run){a[0], at + 1, at + m, 0});
 }
 
 /* Adds the coboundary of the k-simplex q to the working column. */
+/* At most this many entries are kept in the cache of sorted coboundaries
+ * (64 MiB); coboundaries met once the cache is full are sorted each time
+ * they are added. */
+#define CACHE_MAX ((size_t)1 << 22)
+
 static int add_coboundary(work *w, int k, uint32_t q)
 {
     entry first;
+    uint32_t at = w->cached_at[q];
+    size_t room = w->c->max_degree + 2;
+    if (at == NG_POS_NONE && w->cache_n + room <= CACHE_MAX) {
+        if (!grow((void **)&w->cache, &w->cache_cap, w->cache_n + room,
+                  sizeof *w->cache))
+            return 0;
+        entry *a = w->cache + w->cache_n + 1;
+        size_t m = cofacets_within(w, k, q, &first, a);
+        sort_run(a, m);
+        at = (uint32_t)w->cache_n;
+        w->cache[at] = (entry){0, (uint32_t)m};
+        w->cached_at[q] = at;
+        w->cache_n += m + 1;
+    }
+    if (at != NG_POS_NONE) {
+        size_t m = w->cache[at].pos;
+        if (m == 0) return 1;
+        w->live += m;
+        return runs_push(w, (run){w->cache[at + 1], at + 2, at + 1 + m, 1});
+    }
     if (!store_reserve(w)) return 0;
     return push_run(w, cofacets_within(w, k, q, &first,
                                        w->store + w->store_n));
 }
 
 /* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau:
- * locates the other facets (not p itself: the facet that leaves out the
- * one vertex of tau not in p) and stops at the first one later than p. */
+ * the complex keeps the index s of the vertex whose removal leaves the
+ * latest facet (complex_internal.h), and p leaves out the one vertex x of
+ * tau not in p. Where x goes is read off tau's position without reading
+ * tau's vertices when it can: first (s = 0) when tau lies in the run of
+ * lower extensions of p, last (s = k + 1) when tau lies beyond the bucket
+ * of p's top vertex; otherwise, between two vertices of p, which for an
+ * edge p means s = 1. */
 static int latest_facet(const work *w, int k, uint32_t tau, uint32_t p)
 {
-    const ng_index *tv = vertices_of(w, k + 1, tau), *pv = vertices_of(w, k, p);
-    const double *fv = values_of(w, k);
-    entry ep = {fv[p], p};
-    int own = k + 1; /* the vertex of tau not in p: the first mismatch */
-    for (int i = 0; i <= k; i++)
-        if (tv[i] != pv[i]) {
-            own = i;
-            break;
-        }
-    ng_index facet[NG_COMPLEX_MAX_DIM + 1];
-    for (int skip = 0; skip <= k + 1; skip++) {
-        if (skip == own) continue;
-        uint32_t f;
-        if (k == 1) {
-            ng_index a = tv[skip == 0 ? 1 : 0], b = tv[skip == 2 ? 1 : 2];
-            f = ng_complex_locate_edge(w->c, a, b);
-        } else {
-            int r = 0;
-            for (int i = 0; i <= k + 1; i++)
-                if (i != skip) facet[r++] = tv[i];
-            f = ng_complex_locate(w->c, k, facet);
-        }
-        entry e = {fv[f], f};
-        if (entry_less(ep, e)) return 0;
+    const ng_complex *c = w->c;
+    const ng_index *pv = vertices_of(w, k, p);
+    int own;
+    if (tau >= c->ext[k][p] && tau < c->ext[k][p + 1]) {
+        own = 0;
+    } else if (tau >= c->start[k + 1][pv[k] + 1]) {
+        own = k + 1;
+    } else if (k == 1) {
+        own = 1;
+    } else {
+        const ng_index *tv = vertices_of(w, k + 1, tau);
+        own = 1;
+        while (tv[own] == pv[own]) own++;
     }
-    return 1;
+    return c->latest[k + 1][(size_t)w->j * c->count[k + 1] + tau] == own;
 }
 
 static int cmp_u32(const void *a, const void *b)
@@ -588,9 +615,10 @@ static int reduce_dense(work *w, int k, size_t i, uint32_t p,
     if (!w->ranked && !rank_cofacets(w, k)) return 0;
     for (size_t h = 0; h < w->nruns; h++) {
         const run *r = &w->runs[h];
+        const entry *src = r->cached ? w->cache : w->store;
         dense_flip(w, w->rank[r->head.pos]);
         for (size_t e = r->next; e < r->end; e++)
-            dense_flip(w, w->rank[w->store[e].pos]);
+            dense_flip(w, w->rank[src[e].pos]);
     }
     w->nruns = w->store_n = w->live = 0;
     uint32_t r = 0;
@@ -639,7 +667,8 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         *death = first.pos;
         return 1;
     }
-    if (!push_run(w, m)) return 0;
+    /* sorted into the cache: p comes back in the V of later columns */
+    if (!add_coboundary(w, k, p)) return 0;
     for (;;) {
         int heavy = w->live > DENSE_AT;
         if (force_dense ||
@@ -840,6 +869,8 @@ static void work_release(work *w)
 {
     ng_free(w->runs);
     ng_free(w->store);
+    ng_free(w->cache);
+    ng_free(w->cached_at);
     ng_free(w->vcur.a);
     ng_free(w->vstore.a);
     dense_release(w);
@@ -887,6 +918,10 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
          * latest facet is the earlier simplex), so doing the apparent pairs
          * first changes nothing */
         w.vstore.n = 0;
+        w.cache_n = 0;
+        w.cached_at = ng_malloc(c->count[k], sizeof *w.cached_at);
+        if (w.cached_at == NULL) goto cleanup;
+        for (size_t q = 0; q < c->count[k]; q++) w.cached_at[q] = NG_POS_NONE;
         w.rank_price = 2 * ng_complex_count_within(c, k + 1, j);
         for (size_t i = ncols; i-- > 0;)
             if (death[i] == PENDING &&
@@ -899,6 +934,8 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         ng_free(cols);
         cols = NULL;
         dense_release(&w);
+        ng_free(w.cached_at);
+        w.cached_at = NULL;
         ng_free(cleared);
         cleared = owner;
         owner = NULL;
