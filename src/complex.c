@@ -681,6 +681,24 @@ static int build_cofacets(ng_complex *c, int k, const uint32_t *facets)
     return 1;
 }
 
+/* Notes in latest[j * count[k] + p], for each filtration j, which facet of
+ * the k-simplex p is its latest: the index of the vertex that it leaves
+ * out (complex_internal.h), from the facets' positions f[0..k]. */
+static void note_latest(const ng_complex *c, int k, size_t p,
+                        const uint32_t *f, uint8_t *latest)
+{
+    size_t below = c->count[k - 1];
+    for (int j = 0; j < c->n_filtrations; j++) {
+        const double *fv = c->value[k - 1] + (size_t)j * below;
+        int best = 0;
+        for (int s = 1; s <= k; s++) {
+            double a = fv[f[s]], b = fv[f[best]];
+            if (a > b || (a == b && f[s] > f[best])) best = s;
+        }
+        latest[(size_t)j * c->count[k] + p] = (uint8_t)best;
+    }
+}
+
 /* Values of the k-simplices (k ≥ 1) in parallel: one callback per simplex,
  * raised to the max over facets. Returns NG_OK or the first failure in
  * position order (so the message does not depend on the schedule). */
@@ -698,14 +716,10 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
 {
     int L = c->n_filtrations;
     size_t cnt = c->count[k], below = c->count[k - 1];
-    /* per thread: the values (L), the latest facets' values (L) and
-     * positions (L) */
-    double *scratch = ng_malloc((size_t)nt, (size_t)L * 2 * sizeof(double));
-    uint32_t *scratch_pos = ng_malloc((size_t)nt, (size_t)L * sizeof(uint32_t));
+    double *scratch = ng_malloc((size_t)nt, (size_t)L * sizeof(double));
     uint8_t *latest = k >= 2 ? ng_malloc(cnt ? cnt : 1, (size_t)L) : NULL;
-    if (scratch == NULL || scratch_pos == NULL || (k >= 2 && latest == NULL)) {
+    if (scratch == NULL || (k >= 2 && latest == NULL)) {
         ng_free(scratch);
-        ng_free(scratch_pos);
         ng_free(latest);
         return ng_error_set(err, NG_ERR_NOMEM,
                             "complex: out of memory for simplex values");
@@ -716,10 +730,7 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
     long long total = (long long)cnt;
 #pragma omp parallel num_threads(nt)
     {
-        int tid = omp_get_thread_num();
-        double *val = scratch + (size_t)tid * (size_t)L * 2;
-        double *latest_value = val + L;
-        uint32_t *latest_pos = scratch_pos + (size_t)tid * (size_t)L;
+        double *val = scratch + (size_t)omp_get_thread_num() * (size_t)L;
         long long mine = 0;
 #pragma omp for schedule(dynamic, 256)
         for (long long p = 0; p < total; p++) {
@@ -757,26 +768,17 @@ static int compute_values(ng_complex *c, int k, const ng_complex_spec *spec,
                 if (facets) facets[(size_t)p * (size_t)(k + 1) + (size_t)skip] = f;
                 for (int j = 0; j < L; j++) {
                     double fv = c->value[k - 1][(size_t)j * below + f];
-                    if (latest) {
-                        /* the latest facet so far: largest (value, pos) */
-                        double *lv = &latest_value[j];
-                        uint32_t *lp = &latest_pos[j];
-                        if (skip == 0 || fv > *lv || (fv == *lv && f > *lp)) {
-                            *lv = fv;
-                            *lp = f;
-                            latest[(size_t)j * cnt + (size_t)p] =
-                                (uint8_t)skip;
-                        }
-                    }
                     if (fv > val[j]) val[j] = fv;
                 }
             }
             for (int j = 0; j < L; j++)
                 c->value[k][(size_t)j * cnt + (size_t)p] = val[j];
+            if (latest) /* k ≥ 2, so facets holds the facet positions */
+                note_latest(c, k, (size_t)p,
+                            facets + (size_t)p * (size_t)(k + 1), latest);
         }
     }
     ng_free(scratch);
-    ng_free(scratch_pos);
     if (bad_pos == SIZE_MAX) return NG_OK;
     const ng_index *v = c->vert[k] + bad_pos * (size_t)(k + 1);
     char names[128];

@@ -111,9 +111,12 @@
 
 typedef ng_keyed entry;
 
+/* Filtration order. Bitwise, not short-circuit: the heaps compare
+ * entries whose order is a coin toss, and a branch there is mispredicted
+ * half the time. */
 static int entry_less(entry a, entry b)
 {
-    return a.value < b.value || (a.value == b.value && a.pos < b.pos);
+    return (a.value < b.value) | ((a.value == b.value) & (a.pos < b.pos));
 }
 
 /* A recorded column of degree k: the simplex col plus the simplices
@@ -229,8 +232,8 @@ static void runs_sift_down(work *w, size_t i)
     for (;;) {
         size_t l = 2 * i + 1;
         if (l >= n) break;
-        size_t m = l + 1 < n && run_less(&w->runs[l + 1], &w->runs[l]) ? l + 1
-                                                                        : l;
+        size_t m = l;
+        if (l + 1 < n) m += (size_t)run_less(&w->runs[l + 1], &w->runs[l]);
         if (!run_less(&w->runs[m], &x)) break;
         w->runs[i] = w->runs[m];
         i = m;
