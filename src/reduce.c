@@ -391,7 +391,12 @@ static int push_run(work *w, size_t m)
  * they are added. */
 #define CACHE_MAX ((size_t)1 << 22)
 
-static int add_coboundary(work *w, int k, uint32_t q)
+/* Adds the coboundary of the k-simplex q to the working column, less its
+ * entries earlier than *from (when from is not NULL): the column being
+ * reduced has no entry before its pivot, nor has the reduced column it
+ * adds, so the entries the added coboundaries have there cancel among
+ * themselves and need not be merged at all. */
+static int add_coboundary(work *w, int k, uint32_t q, const entry *from)
 {
     entry first;
     uint32_t at = w->cached_at[q];
@@ -409,14 +414,31 @@ static int add_coboundary(work *w, int k, uint32_t q)
         w->cache_n += m + 1;
     }
     if (at != NG_POS_NONE) {
-        size_t m = w->cache[at].pos;
-        if (m == 0) return 1;
-        w->live += m;
-        return runs_push(w, (run){w->cache[at + 1], at + 2, at + 1 + m, 1});
+        size_t lo = at + 1, end = lo + w->cache[at].pos;
+        if (from) { /* the first entry not before *from */
+            size_t hi = end;
+            while (lo < hi) {
+                size_t mid = lo + (hi - lo) / 2;
+                if (entry_less(w->cache[mid], *from))
+                    lo = mid + 1;
+                else
+                    hi = mid;
+            }
+        }
+        if (lo == end) return 1;
+        w->live += end - lo;
+        return runs_push(w, (run){w->cache[lo], lo + 1, end, 1});
     }
     if (!store_reserve(w)) return 0;
-    return push_run(w, cofacets_within(w, k, q, &first,
-                                       w->store + w->store_n));
+    entry *a = w->store + w->store_n;
+    size_t m = cofacets_within(w, k, q, &first, a);
+    if (from) {
+        size_t kept = 0;
+        for (size_t i = 0; i < m; i++)
+            if (!entry_less(a[i], *from)) a[kept++] = a[i];
+        m = kept;
+    }
+    return push_run(w, m);
 }
 
 /* 1 when the k-simplex p is the latest facet of the (k+1)-simplex tau:
@@ -598,7 +620,9 @@ static void dense_clear(work *w)
     memset(w->summary, 0, ns * sizeof *w->summary);
 }
 
-static void dense_add_coboundary(work *w, int k, uint32_t q)
+/* Adds the coboundary of the k-simplex q, less its entries ranked before
+ * from (they cancel, as in add_coboundary). */
+static void dense_add_coboundary(work *w, int k, uint32_t q, uint32_t from)
 {
     size_t m;
     const uint32_t *cof = ng_complex_cofacet_list(w->c, k, q, &m);
@@ -606,7 +630,7 @@ static void dense_add_coboundary(work *w, int k, uint32_t q)
         if (i + PREFETCH_AHEAD < m)
             __builtin_prefetch(w->rank + cof[i + PREFETCH_AHEAD]);
         uint32_t r = w->rank[cof[i]];
-        if (r != NG_POS_NONE) dense_flip(w, r);
+        if (r != NG_POS_NONE && r >= from) dense_flip(w, r);
     }
 }
 
@@ -639,11 +663,11 @@ static int reduce_dense(work *w, int k, size_t i, uint32_t p,
             break;
         }
         reducer R = w->red[o];
-        dense_add_coboundary(w, k, R.col);
+        dense_add_coboundary(w, k, R.col, r);
         if (!vec_push(&w->vcur, R.col)) return 0;
         for (uint32_t v = 0; v < R.v_len; v++) {
             uint32_t q = w->vstore.a[R.v_off + v];
-            dense_add_coboundary(w, k, q);
+            dense_add_coboundary(w, k, q, r);
             if (!vec_push(&w->vcur, q)) return 0;
         }
     }
@@ -671,7 +695,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         return 1;
     }
     /* sorted into the cache: p comes back in the V of later columns */
-    if (!add_coboundary(w, k, p)) return 0;
+    if (!add_coboundary(w, k, p, NULL)) return 0;
     for (;;) {
         int heavy = w->live > DENSE_AT;
         if (force_dense ||
@@ -691,11 +715,11 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         }
         reducer R = w->red[o];
         size_t before = w->live;
-        if (!add_coboundary(w, k, R.col) || !vec_push(&w->vcur, R.col))
+        if (!add_coboundary(w, k, R.col, &piv) || !vec_push(&w->vcur, R.col))
             return 0;
         for (uint32_t r = 0; r < R.v_len; r++) {
             uint32_t q = w->vstore.a[R.v_off + r];
-            if (!add_coboundary(w, k, q) || !vec_push(&w->vcur, q))
+            if (!add_coboundary(w, k, q, &piv) || !vec_push(&w->vcur, q))
                 return 0;
         }
         if (heavy) w->heavy_pushes += w->live - before;
