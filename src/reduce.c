@@ -298,7 +298,8 @@ static int cmp_entry(const void *pa, const void *pb)
     return entry_less(*a, *b) ? -1 : entry_less(*b, *a);
 }
 
-/* Sorts a[0..n) by filtration order. */
+/* Sorts a[0..n), given in increasing position, by filtration order: a
+ * stable insertion sort by value alone keeps ties in position order. */
 static void sort_run(entry *a, size_t n)
 {
     if (n > 48) {
@@ -308,7 +309,7 @@ static void sort_run(entry *a, size_t n)
     for (size_t i = 1; i < n; i++) {
         entry e = a[i];
         size_t j = i;
-        while (j > 0 && entry_less(e, a[j - 1])) {
+        while (j > 0 && e.value < a[j - 1].value) {
             a[j] = a[j - 1];
             j--;
         }
