@@ -392,6 +392,15 @@ static int push_run(work *w, size_t m)
  * they are added. */
 #define CACHE_MAX ((size_t)1 << 22)
 
+static size_t cache_max = CACHE_MAX; /* reduce_internal.h */
+
+size_t ng_reduce_cache_limit(size_t entries)
+{
+    size_t was = cache_max;
+    cache_max = entries;
+    return was;
+}
+
 /* Adds the coboundary of the k-simplex q to the working column, less its
  * entries earlier than *from (when from is not NULL): the column being
  * reduced has no entry before its pivot, nor has the reduced column it
@@ -402,7 +411,7 @@ static int add_coboundary(work *w, int k, uint32_t q, const entry *from)
     entry first;
     uint32_t at = w->cached_at[q];
     size_t room = w->c->max_degree + 2;
-    if (at == NG_POS_NONE && w->cache_n + room <= CACHE_MAX) {
+    if (at == NG_POS_NONE && w->cache_n + room <= cache_max) {
         if (!grow((void **)&w->cache, &w->cache_cap, w->cache_n + room,
                   sizeof *w->cache))
             return 0;
@@ -533,12 +542,14 @@ static void dense_release(work *w)
     w->heavy_pushes = 0;
 }
 
-/* A working column longer than this many heap entries may move to the
+/* A working column holding more than this many entries may move to the
  * dense form. Ranking costs a sort of the (k+1)-simplices: about 80–90 ns
- * per simplex at 2·10^7 simplices, against about 40 ns per push into a
- * long heap (measured with bench_run.py on the 2-core development
- * machine). So the sort is bought only once the pushes made into long
- * heaps of this degree reach twice the number of (k+1)-simplices — rent
+ * per simplex at 2·10^7 simplices, against about 40 ns per entry added to
+ * a long column (both measured with bench_run.py on the 2-core development
+ * machine, the latter with the heap of single cofacets that the heap of
+ * runs replaced; runs cost less per entry, and the price was not tuned
+ * again). So the sort is bought only once the entries added to long
+ * columns of this degree reach twice the number of (k+1)-simplices — rent
  * until the rent paid equals the price, then buy, which never costs more
  * than twice the better of the two choices made in hindsight. Runs with
  * few long columns never sort; runs with many sort early. */

@@ -524,6 +524,18 @@ static void check_random_case(size_t dimension, int D, int max_n)
     assert_same_persistence(p1, pd4);
     ng_persistence_free(pd1);
     ng_persistence_free(pd4);
+    /* no cache of sorted coboundaries, and one that fills up early: every
+     * added coboundary sorted again (less its entries before the pivot),
+     * or some of them: the same bars */
+    size_t limits[2] = {0, 64};
+    for (int l = 0; l < 2; l++) {
+        size_t was = ng_reduce_cache_limit(limits[l]);
+        ng_persistence *pc = NULL;
+        ck_assert_int_eq(ng_persistence_compute(c1, 1, &pc, &err), NG_OK);
+        ng_reduce_cache_limit(was);
+        assert_same_persistence(p1, pc);
+        ng_persistence_free(pc);
+    }
 
     ref_list all = {0};
     ng_index v[MAXV];
@@ -770,8 +782,11 @@ START_TEST(test_errors_and_free)
     ng_csr g = radius_graph(&cl, 0.35);
     ng_complex *c = build(&cl, &g, 3, INFINITY, 2);
     int succeeded = 0, threads = 2 + 2 * (_i % 2); /* 4: inner threads */
-    /* the dense form's allocations too */
+    /* the dense form's allocations too, and those of the path without a
+     * cache */
     ng_reduce_force_dense(_i >= 2);
+    size_t cache_was = ng_reduce_cache_limit(0);
+    if (_i != 1) ng_reduce_cache_limit(cache_was);
     for (long after = 0; after < 2000 && !succeeded; after++) {
         ng_error_clear(&err);
         p = NULL;
@@ -787,6 +802,7 @@ START_TEST(test_errors_and_free)
         }
     }
     ng_reduce_force_dense(0);
+    ng_reduce_cache_limit(cache_was);
     ck_assert(succeeded);
     ng_complex_free(c);
     graph_release(&g);
