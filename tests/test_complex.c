@@ -245,10 +245,15 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
             ng_index rev[6];
             for (int i = 0; i <= k; i++) rev[i] = v[k - i];
             ck_assert_uint_eq(ng_complex_find(c, rev, k + 1), s);
-            /* values: max(callback, facets), per filtration */
+            /* values: max(callback, facets), per filtration; for k ≥ 2
+             * the latest facet, the one of largest (value, position), by
+             * the vertex it leaves out */
             for (int j = 0; j < L; j++) {
                 double want = k == 0 ? vv[v[0] * (size_t)L + (size_t)j]
                                      : hash_value(v, k + 1, j);
+                int latest = -1;
+                double latest_value = 0;
+                size_t latest_pos = 0;
                 for (int skip = 0; skip <= k && k >= 1; skip++) {
                     ng_index f[6];
                     int r = 0;
@@ -258,8 +263,16 @@ static void check_one_graph(size_t n, double p, int top, int L, int threads)
                     ck_assert_uint_ne(fp, SIZE_MAX);
                     double fv = ng_complex_values(c, k - 1, j)[fp];
                     if (fv > want) want = fv;
+                    if (latest < 0 || fv > latest_value ||
+                        (fv == latest_value && fp > latest_pos)) {
+                        latest = skip;
+                        latest_value = fv;
+                        latest_pos = fp;
+                    }
                 }
                 ck_assert(ng_complex_values(c, k, j)[s] == want);
+                if (k >= 2)
+                    ck_assert_int_eq(c->latest[k][(size_t)j * cnt + s], latest);
             }
             /* cofacets against every common neighbour */
             if (k < top) {
