@@ -37,7 +37,7 @@ int ng_order_doubles(const void *a, const void *b)
 #define TOP_BUCKET_BITS 16
 #define SUB_BUCKET_BITS 8
 
-static void insertion_sort(ng_keyed *a, size_t n)
+void ng_sort_keyed_short(ng_keyed *a, size_t n)
 {
     for (size_t i = 1; i < n; i++) {
         ng_keyed e = a[i];
@@ -82,7 +82,7 @@ static void bucket_sort(ng_keyed *a, ng_keyed *tmp, size_t n, size_t *count,
             size_t sub[((size_t)1 << SUB_BUCKET_BITS) + 1];
             bucket_sort(a + from, tmp + from, len, sub, SUB_BUCKET_BITS);
         } else if (len > 1) {
-            insertion_sort(a + from, len);
+            ng_sort_keyed_short(a + from, len);
         }
         from = count[b];
     }
@@ -91,7 +91,7 @@ static void bucket_sort(ng_keyed *a, ng_keyed *tmp, size_t n, size_t *count,
 int ng_sort_keyed(ng_keyed *a, size_t n)
 {
     if (n <= SHORT_RUN) {
-        insertion_sort(a, n);
+        ng_sort_keyed_short(a, n);
         return 0;
     }
     ng_keyed *tmp = ng_malloc(n, sizeof *tmp);

@@ -26,6 +26,10 @@ uint64_t ng_order_key(double x);
  * unchanged). */
 int ng_sort_keyed(ng_keyed *a, size_t n);
 
+/* The same, by insertion sort (no buffer, no failure): for short lists,
+ * a few dozen entries. */
+void ng_sort_keyed_short(ng_keyed *a, size_t n);
+
 /* qsort comparator of doubles, increasing (not NaN). */
 int ng_order_doubles(const void *a, const void *b);
 

@@ -298,23 +298,13 @@ static int cmp_entry(const void *pa, const void *pb)
     return entry_less(*a, *b) ? -1 : entry_less(*b, *a);
 }
 
-/* Sorts a[0..n), given in increasing position, by filtration order: a
- * stable insertion sort by value alone keeps ties in position order. */
+/* Sorts a[0..n), given in increasing position, by filtration order. */
 static void sort_run(entry *a, size_t n)
 {
-    if (n > 48) {
+    if (n > 48)
         qsort(a, n, sizeof *a, cmp_entry);
-        return;
-    }
-    for (size_t i = 1; i < n; i++) {
-        entry e = a[i];
-        size_t j = i;
-        while (j > 0 && e.value < a[j - 1].value) {
-            a[j] = a[j - 1];
-            j--;
-        }
-        a[j] = e;
-    }
+    else
+        ng_sort_keyed_short(a, n);
 }
 
 /* How far ahead the value of a cofacet is fetched: the values of a
