@@ -135,7 +135,7 @@ typedef struct pair {
 
 /* A run: the cofacets within T of one simplex added to the working column,
  * sorted in filtration order; head is the first one not yet taken, the
- * rest are store[next .. end). */
+ * rest are store[next .. end), or cache[next .. end) when cached. */
 typedef struct run {
     entry head;
     size_t next, end;
@@ -376,7 +376,6 @@ static int push_run(work *w, size_t m)
     return runs_push(w, (run){a[0], at + 1, at + m, 0});
 }
 
-/* Adds the coboundary of the k-simplex q to the working column. */
 /* At most this many entries are kept in the cache of sorted coboundaries
  * (64 MiB); coboundaries met once the cache is full are sorted each time
  * they are added. */
@@ -387,7 +386,7 @@ static size_t cache_max = CACHE_MAX; /* reduce_internal.h */
 size_t ng_reduce_cache_limit(size_t entries)
 {
     size_t was = cache_max;
-    cache_max = entries;
+    cache_max = entries < CACHE_MAX ? entries : CACHE_MAX;
     return was;
 }
 

@@ -19,8 +19,8 @@
 int ng_reduce_force_dense(int on);
 
 /* Sets how many entries the cache of sorted coboundaries may hold per
- * filtration (the default: CACHE_MAX in reduce.c; 0: none) and returns the
- * previous limit. */
+ * filtration (0: none; at most the default, CACHE_MAX in reduce.c, which
+ * keeps cache offsets within 32 bits) and returns the previous limit. */
 size_t ng_reduce_cache_limit(size_t entries);
 
 #endif
