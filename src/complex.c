@@ -369,8 +369,9 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
     s->bytes_build = b + lists + largest;
     /* degree 0: union-find (4 B a vertex), sorted edges and their sort
      * buffer (32 B), joining marks (4 B); degree k: sorted columns and sort
-     * buffer (32 B), cleared marks (4 B), reducer records (16 B) and the
-     * apparent-pair pass's column index (4 B) per k-simplex; per
+     * buffer (32 B), cleared marks (4 B), reducer records (16 B), the
+     * apparent-pair pass's column index (4 B) and the pivots' values (8 B)
+     * per k-simplex; per
      * (k+1)-simplex, pivots (4 B) and, when long columns go dense, ranks
      * (4 B), the sorted entries and their sort buffer (32 B) and the bit
      * set; the sort's counters (order.c: 2^16 + 1 of 8 B); the cache of
@@ -384,7 +385,7 @@ static void size_bytes(ng_complex_size *s, size_t n, size_t edges_directed,
         size_t cache =
             2 * 16 * (s->count[k + 1] * (size_t)(k + 2) + s->count[k]);
         if (cache > ((size_t)64 << 20)) cache = (size_t)64 << 20;
-        size_t rk = s->count[k] * 60 + s->count[k + 1] * 41 + sort_counters +
+        size_t rk = s->count[k] * 68 + s->count[k + 1] * 41 + sort_counters +
                     cache;
         if (rk > r) r = rk;
     }

@@ -205,12 +205,12 @@ static const ng_index *vertices_of(const work *w, int k, uint32_t pos)
     return w->c->vert[k] + (size_t)pos * (size_t)(k + 1);
 }
 
-/* Records the pair unless its bar has length zero. */
-static int add_pair(work *w, int k, uint32_t birth, uint32_t death)
+/* Records the pair unless its bar has length zero; the caller says which
+ * (it knows the two values, or where to find them). */
+static int add_pair(work *w, int k, uint32_t birth, uint32_t death,
+                    int zero_length)
 {
-    if (death != NG_POS_NONE &&
-        values_of(w, k)[birth] == values_of(w, k + 1)[death])
-        return 1;
+    if (zero_length) return 1;
     if (!grow((void **)&w->pairs[k], &w->pairs_cap[k], w->npairs[k] + 1,
               sizeof(pair)))
         return 0;
@@ -376,6 +376,20 @@ static int push_run(work *w, size_t m)
     return runs_push(w, (run){a[0], at + 1, at + m, 0});
 }
 
+/* Number of entries of the sorted a[0..n) before x: branch-free, as
+ * ng_count_below (the outcome of each step is a coin toss). */
+static size_t count_before(const entry *a, size_t n, entry x)
+{
+    if (n == 0) return 0;
+    const entry *base = a;
+    while (n > 1) {
+        size_t half = n / 2;
+        base = entry_less(base[half], x) ? base + half : base;
+        n -= half;
+    }
+    return (size_t)(base - a) + (size_t)entry_less(*base, x);
+}
+
 /* At most this many entries are kept in the cache of sorted coboundaries
  * (64 MiB); coboundaries met once the cache is full are sorted each time
  * they are added. */
@@ -414,16 +428,7 @@ static int add_coboundary(work *w, int k, uint32_t q, const entry *from)
     }
     if (at != NG_POS_NONE) {
         size_t lo = at + 1, end = lo + w->cache[at].pos;
-        if (from) { /* the first entry not before *from */
-            size_t hi = end;
-            while (lo < hi) {
-                size_t mid = lo + (hi - lo) / 2;
-                if (entry_less(w->cache[mid], *from))
-                    lo = mid + 1;
-                else
-                    hi = mid;
-            }
-        }
+        if (from) lo += count_before(w->cache + lo, end - lo, *from);
         if (lo == end) return 1;
         w->live += end - lo;
         return runs_push(w, (run){w->cache[lo], lo + 1, end, 1});
@@ -638,7 +643,7 @@ static void dense_add_coboundary(work *w, int k, uint32_t q, uint32_t from)
 /* Finishes the reduction of column i (the k-simplex p) in the dense form,
  * from the runs' entries; as reduce_column. */
 static int reduce_dense(work *w, int k, size_t i, uint32_t p,
-                        uint32_t *owner, uint32_t *death)
+                        uint32_t *owner, uint32_t *death, double *dval)
 {
     if (!w->ranked && !rank_cofacets(w, k)) return 0;
     for (size_t h = 0; h < w->nruns; h++) {
@@ -661,6 +666,7 @@ static int reduce_dense(work *w, int k, size_t i, uint32_t p,
             if (!store_reducer(w, i, p)) return 0;
             owner[tau] = (uint32_t)i;
             *death = tau;
+            *dval = values_of(w, k + 1)[tau];
             break;
         }
         reducer R = w->red[o];
@@ -679,9 +685,10 @@ static int reduce_dense(work *w, int k, size_t i, uint32_t p,
 /* Column i (the k-simplex p) after the apparent-pair pass: reduces it
  * with the heap, or in the dense form once it grows long; owner[τ] is the
  * index of the reducer whose pivot is the (k+1)-simplex τ. Writes its
- * pivot (or NG_POS_NONE) to *death. Returns 1, or 0 when out of memory. */
+ * pivot (or NG_POS_NONE) to *death, and the pivot's value to *dval.
+ * Returns 1, or 0 when out of memory. */
 static int reduce_column(work *w, int k, size_t i, uint32_t p,
-                         uint32_t *owner, uint32_t *death)
+                         uint32_t *owner, uint32_t *death, double *dval)
 {
     entry first;
     w->nruns = w->store_n = w->live = 0;
@@ -693,6 +700,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         if (!store_reducer(w, i, p)) return 0;
         owner[first.pos] = (uint32_t)i;
         *death = first.pos;
+        *dval = first.value;
         return 1;
     }
     /* sorted into the cache: p comes back in the V of later columns */
@@ -701,7 +709,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
         int heavy = w->live > DENSE_AT;
         if (force_dense ||
             (heavy && (w->ranked || w->heavy_pushes >= w->rank_price)))
-            return reduce_dense(w, k, i, p, owner, death);
+            return reduce_dense(w, k, i, p, owner, death, dval);
         entry piv;
         if (!runs_pivot(w, &piv)) {
             *death = NG_POS_NONE;
@@ -712,6 +720,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             if (!store_reducer(w, i, p)) return 0;
             owner[piv.pos] = (uint32_t)i;
             *death = piv.pos;
+            *dval = piv.value;
             return 1;
         }
         reducer R = w->red[o];
@@ -739,7 +748,8 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
  * threads never write the same owner entry: the result does not depend on
  * the schedule. */
 static int apparent_pass(work *w, int k, const entry *cols, size_t ncols,
-                         uint32_t *owner, uint32_t *death, int inner)
+                         uint32_t *owner, uint32_t *death, double *dval,
+                         int inner)
 {
     /* in position order: the cofacet lists, the vertex lists and the
      * values are then read nearly in storage order */
@@ -758,6 +768,7 @@ static int apparent_pass(work *w, int k, const entry *cols, size_t ncols,
             death[i] = NG_POS_NONE;
         } else if (latest_facet(w, k, first.pos, p)) {
             death[i] = first.pos;
+            dval[i] = first.value;
             w->red[i] = (reducer){p, 0, 0};
             owner[first.pos] = i;
         } else {
@@ -803,11 +814,13 @@ static int reduce_degree0(work *w, uint32_t *killed, entry **edges_out,
         uint32_t elder = younger == ra ? rb : ra;
         parent[younger] = elder;
         killed[edges[e].pos] = 0;
-        if (!add_pair(w, 0, younger, edges[e].pos)) goto cleanup;
+        if (!add_pair(w, 0, younger, edges[e].pos,
+                      v0[younger] == edges[e].value))
+            goto cleanup;
     }
     for (size_t i = 0; i < c->n; i++)
         if (in_filtration(v0[i], w->T) && parent[i] == i &&
-            !add_pair(w, 0, (uint32_t)i, NG_POS_NONE))
+            !add_pair(w, 0, (uint32_t)i, NG_POS_NONE, 0))
             goto cleanup;
     ok = 1;
     *edges_out = edges;
@@ -917,6 +930,7 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
     w.j = j;
     w.T = c->scale_limit;
     uint32_t *cleared = NULL, *owner = NULL, *death = NULL;
+    double *dval = NULL; /* per column: the value of its pivot */
     entry *cols = NULL;
     cleared = ng_malloc(c->count[1], sizeof *cleared);
     if (cleared == NULL) goto cleanup;
@@ -938,8 +952,9 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         ng_free(w.red);
         w.red = ng_malloc(ncols, sizeof *w.red);
         death = ng_malloc(ncols, sizeof *death);
-        if (w.red == NULL || death == NULL) goto cleanup;
-        if (!apparent_pass(&w, k, cols, ncols, owner, death, inner))
+        dval = ng_malloc(ncols, sizeof *dval);
+        if (w.red == NULL || death == NULL || dval == NULL) goto cleanup;
+        if (!apparent_pass(&w, k, cols, ncols, owner, death, dval, inner))
             goto cleanup;
         /* the other columns, latest simplex first: they never meet the
          * pivot of an apparent pair of an earlier column (that cofacet's
@@ -953,12 +968,18 @@ static int reduce_filtration(const ng_complex *c, int j, int inner,
         w.rank_price = 2 * ng_complex_count_within(c, k + 1, j);
         for (size_t i = ncols; i-- > 0;)
             if (death[i] == PENDING &&
-                !reduce_column(&w, k, i, cols[i].pos, owner, &death[i]))
+                !reduce_column(&w, k, i, cols[i].pos, owner, &death[i],
+                               &dval[i]))
                 goto cleanup;
         for (size_t i = 0; i < ncols; i++)
-            if (!add_pair(&w, k, cols[i].pos, death[i])) goto cleanup;
+            if (!add_pair(&w, k, cols[i].pos, death[i],
+                          death[i] != NG_POS_NONE &&
+                              dval[i] == cols[i].value))
+                goto cleanup;
         ng_free(death);
         death = NULL;
+        ng_free(dval);
+        dval = NULL;
         ng_free(cols);
         cols = NULL;
         dense_release(&w);
@@ -979,6 +1000,7 @@ cleanup:
     ng_free(cleared);
     ng_free(owner);
     ng_free(death);
+    ng_free(dval);
     ng_free(cols);
     return ok;
 }
