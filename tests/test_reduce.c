@@ -16,8 +16,9 @@
  *    long degree-2 bar, a torus Betti numbers 1, 2, 1 over a range of
  *    scales (Rips filtration, edge value d/2).
  * 3. Determinism: 1 and 2 threads give identical complexes and barcodes,
- *    and so does the dense form of the long columns, forced on every
- *    column (reduce_internal.h).
+ *    and so do the dense form of the long columns, forced on every column,
+ *    and the reduction with no cache of sorted coboundaries or a small one
+ *    (reduce_internal.h).
  */
 #include "nervegap/persistence.h"
 
