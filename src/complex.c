@@ -257,6 +257,22 @@ static int walk_over(walk *wk)
     return wk->stop;
 }
 
+/* Number of entries of the sorted list a[0..len) below x. Branch-free:
+ * the range [base, base + len] holds the answer and halves each step by a
+ * conditional move, so a search costs no mispredicted branches (the clique
+ * walk and every facet lookup make one or more). */
+static size_t count_below(const ng_index *a, size_t len, ng_index x)
+{
+    if (len == 0) return 0;
+    const ng_index *base = a;
+    while (len > 1) {
+        size_t half = len / 2;
+        base = base[half] < x ? base + half : base;
+        len -= half;
+    }
+    return (size_t)(base - a) + (*base < x);
+}
+
 /* chain[0..level-1] is a clique; cand[level] holds its common lower
  * neighbours below chain[level-1]. Visits every extension. */
 static void descend(walk *wk, int level)
@@ -310,7 +326,7 @@ static void walk_from(walk *wk, ng_index w)
     size_t lw = wk->offset[w + 1] - wk->offset[w];
     wk->chain[0] = w;
     wk->cand[1] = nw;
-    wk->ncand[1] = ng_count_below(nw, lw, w);
+    wk->ncand[1] = count_below(nw, lw, w);
     descend(wk, 1);
 }
 
@@ -487,13 +503,25 @@ static uint32_t search_bucket(const ng_complex *c, int k, const ng_index *v,
     return NG_POS_NONE;
 }
 
+/* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x
+ * among the lower neighbours of w (the first ones of its sorted list), from
+ * the start of w's edges. */
+static uint32_t locate_edge(const ng_complex *c, ng_index x, ng_index w)
+{
+    const ng_index *a = c->nbr + c->offset[w];
+    size_t lower = c->start[1][w + 1] - c->start[1][w];
+    size_t at = count_below(a, lower, x);
+    return at < lower && a[at] == x ? (uint32_t)(c->start[1][w] + at)
+                                    : NG_POS_NONE;
+}
+
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v)
 {
     if (k == 0) return v[0] < c->n ? v[0] : NG_POS_NONE;
     ng_index w = v[k];
     if (w >= c->n) return NG_POS_NONE;
     /* the edge {v[k-1], w}: w's lower neighbours are its edges of top w */
-    uint32_t edge = ng_complex_locate_edge(c, v[k - 1], w);
+    uint32_t edge = locate_edge(c, v[k - 1], w);
     if (edge == NG_POS_NONE) return NG_POS_NONE;
     size_t pos = edge;
     /* then one lower vertex at a time, within the run of extensions */

@@ -77,35 +77,6 @@ static inline int in_filtration(double x, double T)
  * NG_POS_NONE. */
 uint32_t ng_complex_locate(const ng_complex *c, int k, const ng_index *v);
 
-/* Number of entries of the sorted list a[0..len) below x. Branch-free:
- * the range [base, base + len] holds the answer and halves each step by a
- * conditional move, so a search costs no mispredicted branches (the
- * reduction's apparent-pair pass makes two per column). */
-static inline size_t ng_count_below(const ng_index *a, size_t len, ng_index x)
-{
-    if (len == 0) return 0;
-    const ng_index *base = a;
-    while (len > 1) {
-        size_t half = len / 2;
-        base = base[half] < x ? base + half : base;
-        len -= half;
-    }
-    return (size_t)(base - a) + (*base < x);
-}
-
-/* Position of the edge {x, w}, x < w < n, or NG_POS_NONE: the index of x
- * among the lower neighbours of w (the first ones of its sorted list), from
- * the start of w's edges. Inline: the reduction's inner loop uses it. */
-static inline uint32_t ng_complex_locate_edge(const ng_complex *c,
-                                              ng_index x, ng_index w)
-{
-    const ng_index *a = c->nbr + c->offset[w];
-    size_t lower = c->start[1][w + 1] - c->start[1][w];
-    size_t at = ng_count_below(a, lower, x);
-    return at < lower && a[at] == x ? (uint32_t)(c->start[1][w] + at)
-                                    : NG_POS_NONE;
-}
-
 /* The (k+1)-cofacets of the k-simplex with increasing vertices v[0..k]
  * (k < top_dim), one at a time, in increasing order of the added vertex —
  * which is also increasing position (the cofacets below the top vertex lie

@@ -167,7 +167,7 @@ typedef struct work {
     /* the dense form (reduce_dense), built for a degree when first
      * needed: ranks of the (k+1)-simplices and a bit set over them */
     int ranked;
-    size_t heavy_pushes, rank_price; /* when to rank (DENSE_AT) */
+    size_t heavy_added, rank_price; /* when to rank (DENSE_AT) */
     uint32_t *rank, *by_rank;
     uint64_t *bits, *summary;
     size_t nwords;
@@ -376,8 +376,9 @@ static int push_run(work *w, size_t m)
     return runs_push(w, (run){a[0], at + 1, at + m, 0});
 }
 
-/* Number of entries of the sorted a[0..n) before x: branch-free, as
- * ng_count_below (the outcome of each step is a coin toss). */
+/* Number of entries of the sorted a[0..n) before x: branch-free, as the
+ * sorted-list search of complex.c (the outcome of each step is a coin
+ * toss). */
 static size_t count_before(const entry *a, size_t n, entry x)
 {
     if (n == 0) return 0;
@@ -533,7 +534,7 @@ static void dense_release(work *w)
     w->rank = w->by_rank = NULL;
     w->bits = w->summary = NULL;
     w->ranked = 0;
-    w->heavy_pushes = 0;
+    w->heavy_added = 0;
 }
 
 /* A working column holding more than this many entries may move to the
@@ -693,9 +694,8 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
     entry first;
     w->nruns = w->store_n = w->live = 0;
     w->vcur.n = 0;
-    if (!store_reserve(w)) return 0;
-    size_t m = cofacets_within(w, k, p, &first, w->store);
-    if (m > 0 && owner[first.pos] == NG_POS_NONE) {
+    if (earliest_cofacet(w, k, p, &first) > 0 &&
+        owner[first.pos] == NG_POS_NONE) {
         /* the pivot is free: no additions, nothing to sort */
         if (!store_reducer(w, i, p)) return 0;
         owner[first.pos] = (uint32_t)i;
@@ -708,7 +708,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
     for (;;) {
         int heavy = w->live > DENSE_AT;
         if (force_dense ||
-            (heavy && (w->ranked || w->heavy_pushes >= w->rank_price)))
+            (heavy && (w->ranked || w->heavy_added >= w->rank_price)))
             return reduce_dense(w, k, i, p, owner, death, dval);
         entry piv;
         if (!runs_pivot(w, &piv)) {
@@ -732,7 +732,7 @@ static int reduce_column(work *w, int k, size_t i, uint32_t p,
             if (!add_coboundary(w, k, q, &piv) || !vec_push(&w->vcur, q))
                 return 0;
         }
-        if (heavy) w->heavy_pushes += w->live - before;
+        if (heavy) w->heavy_added += w->live - before;
     }
 }
 
